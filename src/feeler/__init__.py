@@ -1,0 +1,5 @@
+"""feeler: tests servers speaking the Model Context Protocol."""
+
+from __future__ import annotations
+
+__version__ = "0.1.0"

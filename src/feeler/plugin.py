@@ -1,0 +1,1 @@
+"""pytest plugin for feeler (registered through the pytest11 entry point)."""
