@@ -106,7 +106,12 @@ class ResponseTooLarge(TargetError):
 
 
 class HandshakeError(TargetError):
-    """No protocol era or revision could be agreed with the server."""
+    """No protocol era or revision could be agreed with the server.
+
+    :ivar http_status: the HTTP status of the refusal, when the target is an HTTP URL.
+    """
+
+    http_status: int | None = None
 
 
 class RemoteProtocolError(TargetError):

@@ -1,0 +1,101 @@
+"""The ``feeler`` command line.
+
+Commands live in the modules named in :data:`COMMANDS` and are imported only when used, so
+``feeler --help`` stays fast. Every command follows the same exit codes:
+
+====  =======================================================================
+0     done, nothing found
+1     findings (``check``) or breaking changes (``diff``)
+2     usage error, bad input file, or the target could not be reached / negotiated
+3     an internal error in feeler (a bug: please report it with the traceback)
+====  =======================================================================
+"""
+
+from __future__ import annotations
+
+import importlib
+import sys
+import traceback
+from collections.abc import Sequence
+from typing import Any
+
+import click
+
+from feeler import __version__
+from feeler.errors import FeelerError
+
+__all__ = ["COMMANDS", "main", "run"]
+
+EXIT_OK, EXIT_FINDINGS, EXIT_USAGE, EXIT_INTERNAL = 0, 1, 2, 3
+
+#: command name -> "module:attribute" of its click command
+COMMANDS: dict[str, str] = {
+    "catalog": "feeler.commands:catalog",
+    "demo": "feeler.commands:demo",
+    "cases": "feeler.generate.cli:cases",
+    "check": "feeler.check.cli:check",
+    "replay": "feeler.check.cli:replay",
+    "diff": "feeler.diff.cli:diff",
+    "approve": "feeler.baseline.cli:approve",
+}
+
+
+class _LazyGroup(click.Group):
+    def list_commands(self, ctx: click.Context) -> list[str]:
+        return sorted(name for name in COMMANDS if self._load(name) is not None)
+
+    def get_command(self, ctx: click.Context, cmd_name: str) -> click.Command | None:
+        return self._load(cmd_name)
+
+    @staticmethod
+    def _load(name: str) -> click.Command | None:
+        spec = COMMANDS.get(name)
+        if spec is None:
+            return None
+        module_name, _, attr = spec.partition(":")
+        try:
+            module = importlib.import_module(module_name)
+        except ModuleNotFoundError as exc:
+            if exc.name and module_name.startswith(exc.name):
+                return None  # that part of feeler is not built yet
+            raise
+        return getattr(module, attr, None)
+
+
+@click.group(cls=_LazyGroup, context_settings={"help_option_names": ["-h", "--help"], "max_content_width": 100})
+@click.version_option(__version__, prog_name="feeler")
+def cli() -> None:
+    """feeler tests MCP servers: go and no-go arguments from every tool's schema, checks on every
+    answer, and breaking-change verdicts against an approved baseline.
+
+    Never point feeler at production systems: it calls tools for real.
+    """
+
+
+def run(argv: Sequence[str] | None = None) -> int:
+    """Run the command line with *argv*; return the exit code (used by tests and :func:`main`)."""
+    try:
+        result = cli.main(args=list(argv) if argv is not None else None, prog_name="feeler", standalone_mode=False)
+    except click.exceptions.Abort:
+        click.echo("feeler: aborted", err=True)
+        return EXIT_USAGE
+    except click.ClickException as exc:
+        exc.show()
+        return EXIT_USAGE
+    except FeelerError as exc:
+        click.echo(f"feeler: {exc}", err=True)
+        return EXIT_USAGE
+    except KeyboardInterrupt:
+        click.echo("feeler: interrupted", err=True)
+        return 130
+    except Exception:  # a bug in feeler
+        traceback.print_exc()
+        click.echo("feeler: internal error (a bug in feeler; please report it with the traceback above)", err=True)
+        return EXIT_INTERNAL
+    return int(result) if isinstance(result, int) else EXIT_OK
+
+
+def main() -> None:
+    sys.exit(run())
+
+

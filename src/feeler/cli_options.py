@@ -1,0 +1,85 @@
+"""Click options shared by every command that talks to a server."""
+
+from __future__ import annotations
+
+from collections.abc import Callable
+from typing import Any, TypeVar
+
+import click
+
+from feeler.errors import UsageError
+from feeler.revisions import KNOWN_REVISIONS
+from feeler.target import Target
+from feeler.transport.base import DEFAULT_MAX_MESSAGE_BYTES
+
+__all__ = ["ConnectOptions", "connect_options", "target_options"]
+
+F = TypeVar("F", bound=Callable[..., Any])
+
+
+def _pairs(values: tuple[str, ...], sep: str, option: str) -> dict[str, str]:
+    out: dict[str, str] = {}
+    for value in values:
+        key, found, rest = value.partition(sep)
+        if not found or not key.strip():
+            raise UsageError(f"{option} {value!r}: expected NAME{sep}VALUE")
+        out[key.strip()] = rest.strip() if sep == ":" else rest
+    return out
+
+
+class ConnectOptions:
+    """The target and session options a command was given."""
+
+    def __init__(self, kwargs: dict[str, Any]) -> None:
+        self.target = Target.parse(
+            kwargs.pop("target"),
+            sse=kwargs.pop("sse"),
+            env=_pairs(kwargs.pop("env"), "=", "--env"),
+            cwd=kwargs.pop("cwd"),
+            headers=_pairs(kwargs.pop("header"), ":", "--header"),
+            bearer_env=kwargs.pop("bearer_env"),
+        )
+        self.session = {
+            "revision": kwargs.pop("revision"),
+            "timeout": kwargs.pop("timeout"),
+            "max_message_bytes": kwargs.pop("max_message_bytes"),
+        }
+
+
+def target_options(func: F) -> F:
+    """``TARGET...`` plus the options that say how to reach it."""
+    decorators = [
+        click.argument("target", nargs=-1, required=True, metavar="TARGET"),
+        click.option("--sse", is_flag=True, help="The URL is a legacy HTTP+SSE server (2024-11-05 transport)."),
+        click.option("--env", multiple=True, metavar="NAME=VALUE", help="Environment for a stdio server (repeatable)."),
+        click.option("--cwd", type=click.Path(file_okay=False), help="Working directory for a stdio server."),
+        click.option("--header", multiple=True, metavar="'NAME: VALUE'", help="Extra HTTP header (repeatable; no secrets)."),
+        click.option(
+            "--bearer-env", metavar="VAR", help="Name of the environment variable holding a bearer token for HTTP targets."
+        ),
+    ]
+    for decorator in reversed(decorators):
+        func = decorator(func)
+    return connect_options(func)
+
+
+def connect_options(func: F) -> F:
+    """Session options: revision pin, timeout, answer size cap."""
+    decorators = [
+        click.option(
+            "--revision",
+            type=click.Choice(KNOWN_REVISIONS),
+            help="Pin one protocol revision instead of detecting the era and negotiating.",
+        ),
+        click.option("--timeout", type=click.FloatRange(min=0.1), default=30.0, show_default=True, help="Seconds to wait for each answer."),
+        click.option(
+            "--max-message-bytes",
+            type=click.IntRange(min=1024),
+            default=DEFAULT_MAX_MESSAGE_BYTES,
+            show_default=True,
+            help="Answers larger than this end the call with an error.",
+        ),
+    ]
+    for decorator in reversed(decorators):
+        func = decorator(func)
+    return func

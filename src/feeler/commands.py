@@ -1,0 +1,89 @@
+"""``feeler catalog`` and ``feeler demo``."""
+
+from __future__ import annotations
+
+import os
+import sys
+import tempfile
+from typing import Any
+
+import click
+
+from feeler.catalog import Catalog
+from feeler.cli_options import ConnectOptions, target_options
+from feeler.connect import capture_catalog
+
+__all__ = ["catalog", "demo", "summary", "write_text_atomic"]
+
+
+def write_text_atomic(path: str, text: str) -> None:
+    """Write *text* to *path* through a temp file and a rename, so a crash never leaves half a file."""
+    folder = os.path.dirname(os.path.abspath(path))
+    os.makedirs(folder, exist_ok=True)
+    fd, tmp = tempfile.mkstemp(prefix=".feeler-", dir=folder)
+    try:
+        with os.fdopen(fd, "w", encoding="utf-8", newline="\n") as handle:
+            handle.write(text)
+        os.replace(tmp, path)
+    except BaseException:
+        try:
+            os.unlink(tmp)
+        except OSError:
+            pass
+        raise
+
+
+def summary(cat: Catalog) -> str:
+    """A few lines a person reads: server, revision, and one line per tool."""
+    server = cat.server.get("name", "?") + (f" {cat.server['version']}" if cat.server.get("version") else "")
+    lines = [
+        f"server {server}, revision {cat.revision} ({cat.era} era)",
+        f"{len(cat.tools)} tools, {len(cat.prompts)} prompts, {len(cat.resources)} resources, "
+        f"{len(cat.resource_templates)} resource templates",
+    ]
+    for tool in cat.tool_list():
+        flags = []
+        if tool.destructive:
+            flags.append("destructive")
+        if not tool.annotated:
+            flags.append("no annotations")
+        if tool.output_schema is not None:
+            flags.append("outputSchema")
+        props = (tool.input_schema or {}).get("properties", {}) if isinstance(tool.input_schema, dict) else {}
+        lines.append(f"  {tool.name} ({len(props)} arguments{', ' + ', '.join(flags) if flags else ''})")
+    return "\n".join(lines)
+
+
+@click.command("catalog")
+@target_options
+@click.option("-o", "--output", type=click.Path(dir_okay=False), help="Write the catalog here instead of standard output.")
+def catalog(output: str | None, **kwargs: Any) -> int:
+    """Capture what TARGET advertises (tools, prompts, resources, capabilities) as canonical JSON.
+
+    \b
+    TARGET is one of:
+      feeler catalog -- python my_server.py --flag     (stdio command, after --)
+      feeler catalog http://127.0.0.1:8000/mcp         (Streamable HTTP)
+      feeler catalog --sse http://127.0.0.1:8000/sse   (legacy HTTP+SSE)
+      feeler catalog my_package.server:app             (official SDK server object, in-process)
+    """
+    opts = ConnectOptions(kwargs)
+    cat = capture_catalog(opts.target, **opts.session)
+    text = cat.dumps()
+    if output:
+        write_text_atomic(output, text)
+        click.echo(f"feeler: wrote the catalog of {opts.target.name} to {output} ({len(cat.tools)} tools)", err=True)
+    else:
+        click.echo(text, nl=False)
+    return 0
+
+
+@click.command("demo")
+def demo() -> int:
+    """Run feeler against its bundled demo server (served over stdio by this Python)."""
+    from feeler.target import Target
+
+    target = Target(kind="stdio", command=(sys.executable, "-m", "feeler.demo"))
+    cat = capture_catalog(target)
+    click.echo(summary(cat))
+    return 0

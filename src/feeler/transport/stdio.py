@@ -1,0 +1,292 @@
+"""stdio: the server is a child process; one JSON-RPC message per line on its stdin and stdout.
+
+The calling thread reads stdout itself (``select`` + ``os.read``), so a round trip costs no thread hand-off.
+stderr is drained by one daemon thread into a bounded buffer, kept for error messages and reports.
+Shutdown follows the spec's advice (MCP 2025-11-25 basic/lifecycle, "stdio" shutdown): close stdin,
+wait, SIGTERM to the process group, wait, SIGKILL to the process group.
+"""
+
+from __future__ import annotations
+
+import os
+import selectors
+import shutil
+import signal
+import subprocess
+import sys
+import threading
+import time
+from collections import deque
+from collections.abc import Mapping, Sequence
+
+from feeler.errors import ConnectError, RequestTimeout, ResponseTooLarge, ServerExited, TargetError
+from feeler.transport.base import DEFAULT_MAX_MESSAGE_BYTES, Inbound, Transport
+
+__all__ = ["StdioTransport"]
+
+#: How much of the server's stderr is kept (the tail).
+STDERR_KEEP_BYTES = 64 * 1024
+_READ_CHUNK = 256 * 1024
+
+
+class _StderrTail:
+    """Keeps the last *limit* bytes a process wrote to stderr, read by a daemon thread."""
+
+    def __init__(self, stream: object, limit: int = STDERR_KEEP_BYTES) -> None:
+        self._chunks: deque[bytes] = deque()
+        self._size = 0
+        self._limit = limit
+        self._lock = threading.Lock()
+        self._thread = threading.Thread(target=self._drain, args=(stream,), name="feeler-stderr", daemon=True)
+        self._thread.start()
+
+    def _drain(self, stream: object) -> None:
+        fd = stream.fileno()  # type: ignore[attr-defined]
+        while True:
+            try:
+                chunk = os.read(fd, 65536)
+            except OSError:
+                return
+            if not chunk:
+                return
+            with self._lock:
+                self._chunks.append(chunk)
+                self._size += len(chunk)
+                while self._size > self._limit and len(self._chunks) > 1:
+                    self._size -= len(self._chunks.popleft())
+
+    def text(self) -> str:
+        with self._lock:
+            data = b"".join(self._chunks)[-self._limit :]
+        return data.decode("utf-8", errors="replace")
+
+    def tail(self, lines: int = 5) -> str:
+        return "\n".join(self.text().rstrip().splitlines()[-lines:])
+
+    def join(self, timeout: float) -> None:
+        self._thread.join(timeout)
+
+
+class StdioTransport(Transport):
+    """Start *command* and talk newline-delimited JSON-RPC over its stdin/stdout.
+
+    :param command: the program and its arguments.
+    :param env: extra environment variables, added to this process's environment.
+    :param cwd: working directory for the server.
+    :param shutdown_grace: seconds to wait after closing stdin, and again after SIGTERM.
+    """
+
+    kind = "stdio"
+
+    def __init__(
+        self,
+        target: str,
+        command: Sequence[str],
+        *,
+        env: Mapping[str, str] | None = None,
+        cwd: str | None = None,
+        max_message_bytes: int = DEFAULT_MAX_MESSAGE_BYTES,
+        shutdown_grace: float = 2.0,
+    ) -> None:
+        super().__init__(target, max_message_bytes=max_message_bytes)
+        if not command:
+            raise ConnectError("no command given: put the server's command line after `--`", target=target)
+        self.command = list(command)
+        self.env = dict(env or {})
+        self.cwd = cwd
+        self.shutdown_grace = shutdown_grace
+        self.proc: subprocess.Popen[bytes] | None = None
+        self._stderr: _StderrTail | None = None
+        self._buf = bytearray()
+        self._scan_from = 0
+        self._discarding = False
+        self._selector: selectors.BaseSelector | None = None
+        self._eof = False
+
+    # -- life cycle ----------------------------------------------------------------------------
+    def open(self, timeout: float) -> None:
+        program = self.command[0]
+        if os.sep not in program and shutil.which(program, path=self._path()) is None:
+            raise ConnectError(
+                f"command not found: {program!r}; check the command after `--` and your PATH", target=self.target
+            )
+        env = {**os.environ, **self.env}
+        try:
+            self.proc = subprocess.Popen(
+                self.command,
+                stdin=subprocess.PIPE,
+                stdout=subprocess.PIPE,
+                stderr=subprocess.PIPE,
+                env=env,
+                cwd=self.cwd,
+                bufsize=0,
+                start_new_session=True,  # own process group, so shutdown can signal the whole tree
+            )
+        except FileNotFoundError as exc:
+            what = f"working directory {self.cwd!r}" if self.cwd and not os.path.isdir(self.cwd) else repr(program)
+            raise ConnectError(f"cannot start the server: {what} does not exist", target=self.target) from exc
+        except PermissionError as exc:
+            raise ConnectError(f"cannot start the server: {program!r} is not executable", target=self.target) from exc
+        except OSError as exc:
+            raise ConnectError(f"cannot start the server: {exc}", target=self.target) from exc
+        assert self.proc.stdout is not None and self.proc.stderr is not None
+        self._stderr = _StderrTail(self.proc.stderr)
+        self._selector = selectors.DefaultSelector()
+        self._selector.register(self.proc.stdout.fileno(), selectors.EVENT_READ)
+
+    def _path(self) -> str | None:
+        return self.env.get("PATH", os.environ.get("PATH"))
+
+    @property
+    def pid(self) -> int | None:
+        return self.proc.pid if self.proc else None
+
+    def alive(self) -> bool:
+        return self.proc is not None and self.proc.poll() is None
+
+    # -- wire ----------------------------------------------------------------------------------
+    def send(self, text: str, *, headers: Mapping[str, str] | None = None, timeout: float = 30.0) -> None:
+        proc = self._require_open()
+        data = (text if text.endswith("\n") else text + "\n").encode("utf-8")
+        try:
+            assert proc.stdin is not None
+            view = memoryview(data)
+            while view:
+                written = os.write(proc.stdin.fileno(), view)
+                view = view[written:]
+        except (BrokenPipeError, ConnectionResetError, ValueError, OSError) as exc:
+            raise self._exited("the server stopped reading its stdin") from exc
+
+    def receive(self, timeout: float) -> Inbound:
+        proc = self._require_open()
+        deadline = time.monotonic() + timeout
+        assert proc.stdout is not None and self._selector is not None
+        fd = proc.stdout.fileno()
+        while True:
+            line = self._take_line()
+            if line is not None:
+                return Inbound(line)
+            if self._eof:
+                raise self._exited("the server closed its stdout")
+            remaining = deadline - time.monotonic()
+            if remaining <= 0:
+                raise RequestTimeout(f"no answer within {timeout:g}s", target=self.target)
+            if not self._selector.select(remaining):
+                continue
+            chunk = os.read(fd, _READ_CHUNK)
+            if not chunk:
+                self._eof = True
+                continue
+            self._buf += chunk
+
+    def _take_line(self) -> str | None:
+        """Cut one complete line from the buffer; enforce the size cap. None when no line is complete."""
+        while True:
+            newline = self._buf.find(b"\n", self._scan_from)
+            if newline < 0:
+                if self._discarding:
+                    self._buf.clear()
+                    self._scan_from = 0
+                    return None
+                self._scan_from = len(self._buf)
+                if len(self._buf) > self.max_message_bytes:
+                    self._buf.clear()
+                    self._scan_from = 0
+                    self._discarding = True
+                    raise self._too_large()
+                return None
+            raw = bytes(self._buf[:newline])
+            del self._buf[: newline + 1]
+            self._scan_from = 0
+            if self._discarding:
+                self._discarding = False  # the end of the oversized line: drop it and go on
+                continue
+            if len(raw) > self.max_message_bytes:
+                raise self._too_large()
+            text = raw.decode("utf-8", errors="replace").rstrip("\r")
+            if text.strip():
+                return text
+
+    def _too_large(self) -> ResponseTooLarge:
+        return ResponseTooLarge(
+            f"an answer exceeded the size cap of {self.max_message_bytes:,} bytes and was discarded "
+            "(raise it with --max-message-bytes)",
+            target=self.target,
+        )
+
+    def _require_open(self) -> subprocess.Popen[bytes]:
+        if self.proc is None:
+            raise TargetError("the transport is not open", target=self.target)
+        return self.proc
+
+    def _exited(self, what: str) -> ServerExited:
+        code = None
+        if self.proc is not None:
+            try:
+                code = self.proc.wait(timeout=1.0)
+            except subprocess.TimeoutExpired:
+                code = self.proc.poll()
+        if self._stderr is not None:
+            self._stderr.join(0.5)
+        tail = self._stderr.tail() if self._stderr else ""
+        status = f"exit code {code}" if code is not None and code >= 0 else (
+            f"killed by signal {-code}" if code is not None else "still running"
+        )
+        message = f"{what} ({status})"
+        if tail:
+            message += f"; stderr ends with: {tail.splitlines()[-1][:300]}"
+        return ServerExited(message, target=self.target, returncode=code, stderr_tail=tail)
+
+    def diagnostics(self) -> str:
+        return self._stderr.tail(20) if self._stderr else ""
+
+    def stderr_text(self) -> str:
+        return self._stderr.text() if self._stderr else ""
+
+    # -- shutdown ------------------------------------------------------------------------------
+    def close(self) -> None:
+        proc, self.proc = self.proc, None
+        if proc is None:
+            return
+        try:
+            if proc.stdin is not None:
+                proc.stdin.close()
+        except OSError:
+            pass
+        if not _wait(proc, self.shutdown_grace):
+            _signal_group(proc, signal.SIGTERM)
+            if not _wait(proc, self.shutdown_grace):
+                _signal_group(proc, signal.SIGKILL)
+                _wait(proc, 5.0)
+        # The server may have left children in its group: they go with it.
+        _signal_group(proc, signal.SIGKILL, only_if_left=True)
+        if self._selector is not None:
+            self._selector.close()
+            self._selector = None
+        for stream in (proc.stdout, proc.stderr):
+            try:
+                if stream is not None:
+                    stream.close()
+            except OSError:
+                pass
+        # keep the stderr tail readable after close
+        self.proc_returncode = proc.returncode
+
+
+def _wait(proc: subprocess.Popen[bytes], seconds: float) -> bool:
+    try:
+        proc.wait(timeout=seconds)
+        return True
+    except subprocess.TimeoutExpired:
+        return False
+
+
+def _signal_group(proc: subprocess.Popen[bytes], sig: int, *, only_if_left: bool = False) -> None:
+    if sys.platform == "win32":  # pragma: no cover - no process groups
+        if not only_if_left:
+            proc.kill()
+        return
+    try:
+        os.killpg(proc.pid, sig)
+    except (ProcessLookupError, PermissionError):
+        pass
