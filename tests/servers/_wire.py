@@ -145,8 +145,6 @@ class WireServer:
 
     def dispatch(self, method: str, params: dict[str, Any], request_id: Any) -> dict[str, Any]:
         if method == "initialize":
-            if not self.speaks_handshake:
-                raise RpcError(METHOD_NOT_FOUND, "Method not found: initialize")
             return self.on_initialize(params)
         if method == "server/discover":
             if not self.speaks_modern:
@@ -204,6 +202,13 @@ class WireServer:
 
     def on_initialize(self, params: dict[str, Any]) -> dict[str, Any]:
         requested = params.get("protocolVersion")
+        if not self.speaks_handshake:
+            # MCP 2026-07-28 basic/versioning: modern-only servers SHOULD name their versions.
+            raise RpcError(
+                UNSUPPORTED_PROTOCOL_VERSION,
+                "Unsupported protocol version: this server speaks only 2026-07-28 (no initialize)",
+                {"supported": list(self.supported_versions()), "requested": requested},
+            )
         version = requested if requested in HANDSHAKE_VERSIONS else LATEST_HANDSHAKE
         if isinstance(params.get("capabilities"), dict):
             self.client_capabilities = params["capabilities"]

@@ -20,7 +20,7 @@ from typing import Any
 from feeler.diff.model import Effect, Finding
 from feeler.diff.witness import ANNOTATION_KEYWORDS, Kit, NoInstance
 
-__all__ = ["SCHEMA_RULES", "Rule", "schema_rule", "HANDLED_KEYWORDS"]
+__all__ = ["SCHEMA_RULES", "RULE_KEYWORDS", "Rule", "schema_rule", "HANDLED_KEYWORDS"]
 
 Schema = Mapping[str, Any]
 Rule = Callable[[Schema, Schema], Iterator[Finding]]
@@ -29,6 +29,8 @@ Rule = Callable[[Schema, Schema], Iterator[Finding]]
 SCHEMA_RULES: dict[str, Rule] = {}
 #: Keywords some rule (or the engine's recursion) looks at; the ``unknown-keyword`` rule covers the rest.
 HANDLED_KEYWORDS: set[str] = set()
+#: name -> the keywords it guards; a witness must fail the new schema on one of these (or a combinator).
+RULE_KEYWORDS: dict[str, frozenset[str]] = {}
 
 
 def schema_rule(name: str, *keywords: str) -> Callable[[Rule], Rule]:
@@ -41,6 +43,7 @@ def schema_rule(name: str, *keywords: str) -> Callable[[Rule], Rule]:
             raise ValueError(f"schema rule {name!r} is registered twice")
         SCHEMA_RULES[name] = func
         HANDLED_KEYWORDS.update(keywords)
+        RULE_KEYWORDS[name] = frozenset(keywords)
         return func
 
     return register
@@ -379,7 +382,7 @@ def _without(name: str) -> Callable[[Kit, Schema, Schema], Iterator[Any]]:
     return cands
 
 
-@schema_rule("properties", "properties")
+@schema_rule("properties", "properties", "additionalProperties")
 def properties(old: Schema, new: Schema) -> Iterator[Finding]:
     """``properties`` (Core 10.3.2.1): declared properties added or removed (common ones are recursed into).
 

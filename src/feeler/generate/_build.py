@@ -183,6 +183,12 @@ def build(ts: ToolSchema, node: Any, full: bool = False) -> Any:
         return None
     if node is False:
         raise Unbuildable
+    if "if" in node:
+        # Build without the condition, then again with the branch the condition picks for that value.
+        rest = {k: v for k, v in node.items() if k not in ("if", "then", "else")}
+        value = build(ts, rest, full)
+        branch = node.get("then" if ts.valid_under(node["if"], value) else "else")
+        return build(ts, _merge(rest, effective(ts, branch)), full) if branch is not None else value
     if "const" in node:
         return node["const"]
     if "enum" in node:

@@ -125,6 +125,11 @@ def _strings(ts: ToolSchema, node: dict) -> st.SearchStrategy[str]:
             return strategy.filter(lambda s: ts.valid_under(node, s))
         return strategy.filter(fits)
     if "pattern" in node:
+        # jsonschema matches patterns with Python's re, where \d, \w and $ are wider than ECMA-262's
+        # (the dialect's regex flavour, 2020-12 validation section 6.3.3). Drawing from printable
+        # ASCII keeps go cases inside both readings, so a server validating per ECMA-262 agrees.
+        if node["pattern"].isascii():
+            return st.from_regex(node["pattern"], alphabet=st.characters(min_codepoint=32, max_codepoint=126)).filter(fits)
         return st.from_regex(node["pattern"]).filter(fits)
     return st.text(st.characters(codec="utf-8"), min_size=low, max_size=high if high is not None else low + 2 * _SPAN)
 

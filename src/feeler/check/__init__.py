@@ -1,0 +1,10 @@
+"""Checks on every answer: the registry, the built-in checks, the runner and its findings."""
+
+from __future__ import annotations
+
+from feeler.check import builtin as _builtin  # noqa: F401 - registers the built-in checks
+from feeler.check import probes as _probes  # noqa: F401 - registers the probe check
+from feeler.check.findings import Finding, FindingSet
+from feeler.check.registry import CHECKS, CallContext, Check, CheckSettings, Problem, register, select_checks
+
+__all__ = ["CHECKS", "CallContext", "Check", "CheckSettings", "Finding", "FindingSet", "Problem", "register", "select_checks"]

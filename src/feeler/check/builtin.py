@@ -1,0 +1,324 @@
+"""The built-in checks, one small generator each. Each names the rule it enforces.
+
+Codes and shapes come from JSON-RPC 2.0 (section 5: response object; 5.1: error object) and the MCP
+specification revision pages named in each docstring.
+"""
+
+from __future__ import annotations
+
+import json
+import re
+from collections.abc import Iterator
+from typing import Any
+
+from feeler.check.registry import CallContext, Problem, register
+from feeler.session import same_id
+
+__all__: list[str] = []
+
+PARSE_ERROR, INVALID_REQUEST, METHOD_NOT_FOUND, INVALID_PARAMS, INTERNAL_ERROR = -32700, -32600, -32601, -32602, -32603
+
+
+def _response(ctx: CallContext) -> dict[str, Any] | None:
+    ex = ctx.exchange
+    return ex.response if ex is not None and isinstance(ex.response, dict) else None
+
+
+def _texts(result: Any) -> list[str]:
+    """The text of every text block of a tool result."""
+    if not isinstance(result, dict) or not isinstance(result.get("content"), list):
+        return []
+    return [b["text"] for b in result["content"] if isinstance(b, dict) and isinstance(b.get("text"), str)]
+
+
+def _error_texts(ctx: CallContext) -> list[str]:
+    """What the server said when it refused: the error object, or the text of an ``isError`` result."""
+    ex = ctx.exchange
+    if ex is None:
+        return []
+    if ex.error is not None:
+        out = [str(ex.error.get("message", ""))]
+        if "data" in ex.error:
+            out.append(json.dumps(ex.error["data"], ensure_ascii=False))
+        return out
+    return _texts(ex.result) if ex.is_error_result else []
+
+
+def _where(ctx: CallContext) -> str:
+    if ctx.keyword:
+        return f" (keyword {ctx.keyword!r} at {ctx.path or '$'})"
+    return ""
+
+
+# -- JSON-RPC envelope --------------------------------------------------------------------------
+
+
+@register("envelope", applies_to=("go", "no-go", "probe", "alive"), reference="JSON-RPC 2.0 section 5, 5.1")
+def envelope(ctx: CallContext) -> Iterator[Problem]:
+    """Every answer is a JSON-RPC 2.0 response: version, echoed id, exactly one of result/error, typed error."""
+    ex = ctx.exchange
+    msg = _response(ctx)
+    if ex is None or ex.response is None:
+        return
+    if msg is None:
+        if not isinstance(ex.response, list):
+            yield Problem(f"the answer is not a JSON object: {json.dumps(ex.response)[:120]}", error_class="not-object")
+        return
+    if msg.get("jsonrpc") != "2.0":
+        yield Problem(f'"jsonrpc" is {msg.get("jsonrpc")!r}, not "2.0"', error_class="jsonrpc-version")
+    has_result, has_error = "result" in msg, "error" in msg
+    if has_result == has_error:
+        yield Problem("the answer must carry exactly one of result and error", error_class="result-xor-error")
+    if "id" not in msg:
+        yield Problem("the answer has no id", error_class="missing-id")
+    elif ex.request_id is not None and not same_id(msg["id"], ex.request_id) and not (msg["id"] is None and has_error):
+        yield Problem(
+            f"the answer's id {msg['id']!r} does not echo the request id {ex.request_id!r} (type included)",
+            error_class="id-echo",
+        )
+    if has_error:
+        err = msg["error"]
+        if not isinstance(err, dict):
+            yield Problem("error is not an object", error_class="error-object")
+            return
+        if not isinstance(err.get("code"), int) or isinstance(err.get("code"), bool):
+            yield Problem(f"error.code {err.get('code')!r} is not an integer", error_class="error-code-type")
+        if not isinstance(err.get("message"), str):
+            yield Problem(f"error.message {err.get('message')!r} is not a string", error_class="error-message-type")
+    for violation in ex.violations:
+        if violation.kind in ("not-json", "not-jsonrpc"):
+            yield Problem(f"the server wrote {violation.message}: {violation.text[:80]!r}", error_class=violation.kind)
+
+
+# -- result shape ---------------------------------------------------------------------------------
+
+
+def _shape_errors(method: str, revision: str, result: Any) -> list[str]:
+    from mcp_types import methods  # the reference for message shapes, per revision
+    from pydantic import ValidationError
+
+    try:
+        methods.validate_server_result(method, revision, result)
+    except ValidationError as exc:
+        return [f"{'.'.join(str(p) for p in e['loc'])}: {e['msg']}" for e in exc.errors()[:3]]
+    except (KeyError, ValueError):
+        return []  # a method or revision mcp-types does not cover: nothing to compare with
+    return []
+
+
+@register("result_shape", applies_to=("go", "no-go"), reference="MCP <revision> server/tools (CallToolResult); mcp-types")
+def result_shape(ctx: CallContext) -> Iterator[Problem]:
+    """A tools/call result has the shape the negotiated revision defines (content blocks, isError, resultType)."""
+    ex = ctx.exchange
+    if ex is None or not isinstance(ex.result, dict) or ex.input_required:
+        return
+    for error in _shape_errors("tools/call", ctx.revision, ex.result):
+        yield Problem(f"the result does not match CallToolResult at {ctx.revision}: {error}", error_class="shape")
+
+
+# -- go and no-go verdicts --------------------------------------------------------------------------
+
+
+@register("go_accepted", applies_to=("go",), reference="MCP 2025-11-25 server/tools (error handling)")
+def go_accepted(ctx: CallContext) -> Iterator[Problem]:
+    """Arguments the input schema accepts are accepted: -32602 on a go case means schema and code disagree."""
+    ex = ctx.exchange
+    if ex is None:
+        return
+    if ex.error is not None and ex.error.get("code") == INVALID_PARAMS:
+        yield Problem(
+            f"valid arguments{_where(ctx)} were refused as invalid params: {str(ex.error.get('message'))[:200]}",
+            error_class="refused-valid",
+        )
+    elif ex.error is not None and ex.error.get("code") == INTERNAL_ERROR:
+        yield Problem(f"valid arguments{_where(ctx)} caused an internal error: {str(ex.error.get('message'))[:200]}", error_class="internal-error")
+    elif ex.is_error_result and ctx.settings.strict_go:
+        text = " ".join(_texts(ex.result))[:200]
+        yield Problem(f"valid arguments{_where(ctx)} got isError: {text}", error_class="is-error")
+
+
+@register("nogo_rejected", applies_to=("no-go",), reference="MCP 2025-11-25 server/tools (error handling); JSON-RPC 2.0 section 5.1")
+def nogo_rejected(ctx: CallContext) -> Iterator[Problem]:
+    """Arguments the input schema forbids are rejected cleanly: -32602 or ``isError: true``, never success or -32603."""
+    ex = ctx.exchange
+    if ex is None:
+        return
+    if ex.error is not None:
+        code = ex.error.get("code")
+        if code == INTERNAL_ERROR:
+            yield Problem(f"invalid arguments{_where(ctx)} caused an internal error (-32603) instead of a clean rejection", error_class="internal-error")
+        elif code != INVALID_PARAMS:
+            yield Problem(f"invalid arguments{_where(ctx)} were rejected with code {code!r}; expected -32602 or isError", error_class="wrong-code")
+        return
+    if isinstance(ex.result, dict) and not ex.is_error_result and not ex.input_required:
+        yield Problem(
+            f"the server accepted arguments that break the schema{_where(ctx)}: it does not enforce "
+            f"{ctx.keyword!r}" if ctx.keyword else "the server accepted arguments that break the schema",
+            error_class="accepted-invalid",
+        )
+
+
+_EXCEPTION_NAME = re.compile(r"\b([A-Z][A-Za-z0-9_]*(?:Error|Exception))\b(?::|\()")
+
+
+@register("no_crash", applies_to=("go", "no-go"), reference="common practice: a tool reports failures, it does not crash")
+def no_crash(ctx: CallContext) -> Iterator[Problem]:
+    """A call never ends in an unhandled exception: no exception class named in an error, no exit, no hang."""
+    if ctx.failure is not None:
+        kind = type(ctx.failure).__name__
+        what = {"RequestTimeout": "hung (no answer in time)", "ServerExited": "made the server exit"}.get(kind, f"failed ({kind})")
+        yield Problem(f"the call {what}{_where(ctx)}: {ctx.failure}", error_class=kind)
+        return
+    for text in _error_texts(ctx):
+        match = _EXCEPTION_NAME.search(text)
+        if match and match.group(1) not in ("ValidationError", "ToolError"):
+            yield Problem(
+                f"the tool raised an unhandled {match.group(1)}{_where(ctx)}: {text.strip()[:200]}",
+                error_class=f"unhandled:{match.group(1)}",
+            )
+            return
+
+
+# -- leaks ------------------------------------------------------------------------------------------
+
+_TRACES = {
+    "python-traceback": re.compile(r"Traceback \(most recent call last\)|File \"[^\"]+\", line \d+"),
+    "javascript-stack": re.compile(r"\bat (?:[\w.$<>\[\] ]+ )?\(?(?:file://)?[\w./\\:-]+\.(?:js|mjs|cjs|ts):\d+:\d+\)?"),
+    "java-stack": re.compile(r"\bat [\w$.]+\([\w$]+\.java:\d+\)|Exception in thread \""),
+    "go-panic": re.compile(r"goroutine \d+ \[|\bpanic: "),
+}
+_ABS_PATH = re.compile(r"(?<![\w.~:/])(/(?:home|Users|usr|opt|var|srv|root|app|tmp|etc|mnt|workspace)/[\w.@+-]+(?:/[\w.@+-]+)+|[A-Za-z]:\\\\?(?:[\w .-]+\\\\?)+)")
+
+
+@register("no_leaks", applies_to=("go", "no-go", "probe"), reference="common practice (OWASP: error handling); MCP 2025-11-25 server/tools security")
+def no_leaks(ctx: CallContext) -> Iterator[Problem]:
+    """Errors leak no internals: stack traces (Python, JavaScript, Java, Go), absolute file paths, secrets."""
+    for text in _error_texts(ctx):
+        for name, pattern in _TRACES.items():
+            if pattern.search(text):
+                yield Problem(f"an error shows a {name.replace('-', ' ')}{_where(ctx)}", error_class=name)
+                break
+        path = _ABS_PATH.search(text)
+        if path:
+            yield Problem(f"an error shows an absolute file path {path.group(0)!r}{_where(ctx)}", error_class="absolute-path")
+        for secret in ctx.settings.secrets:
+            if secret and secret in text:
+                yield Problem(f"an error shows the value of a secret environment variable{_where(ctx)}", error_class="secret")
+                break
+
+
+# -- structured output --------------------------------------------------------------------------------
+
+
+@register("output_schema", applies_to=("go",), reference="MCP 2025-06-18 server/tools (output schema); JSON Schema 2020-12; jsonschema")
+def output_schema(ctx: CallContext) -> Iterator[Problem]:
+    """A tool with an outputSchema returns ``structuredContent`` that validates against it."""
+    from feeler.check.schemas import output_validator
+
+    ex = ctx.exchange
+    tool = ctx.tool
+    if ex is None or tool is None or tool.output_schema is None or not isinstance(ex.result, dict):
+        return
+    if ex.is_error_result or ex.input_required:
+        return
+    if "structuredContent" not in ex.result:
+        yield Problem("the tool declares an outputSchema but returned no structuredContent", error_class="missing")
+        return
+    validator = output_validator(tool.output_schema)
+    if validator is None:
+        return
+    errors = sorted(validator.iter_errors(ex.result["structuredContent"]), key=lambda e: list(e.absolute_path))
+    if errors:
+        first = errors[0]
+        where = "$" + "".join(f"[{p}]" if isinstance(p, int) else f".{p}" for p in first.absolute_path)
+        yield Problem(
+            f"structuredContent breaks the outputSchema at {where}: {first.message[:200]}",
+            error_class=f"invalid:{first.validator}",
+        )
+
+
+@register("output_mirrored", applies_to=("go",), severity="warning", reference="MCP 2025-06-18 server/tools (structured content): SHOULD")
+def output_mirrored(ctx: CallContext) -> Iterator[Problem]:
+    """``structuredContent`` is also given as serialized JSON in a text block (a SHOULD)."""
+    ex = ctx.exchange
+    if ex is None or not isinstance(ex.result, dict) or "structuredContent" not in ex.result or ex.is_error_result:
+        return
+    wanted = ex.result["structuredContent"]
+    for text in _texts(ex.result):
+        try:
+            if json.loads(text) == wanted:
+                return
+        except ValueError:
+            continue
+    yield Problem("structuredContent is not mirrored as JSON in a text block", error_class="not-mirrored")
+
+
+# -- liveness and latency ------------------------------------------------------------------------------
+
+
+@register("server_alive", applies_to=("alive",), reference="MCP 2025-11-25 basic/utilities/ping; 2026-07-28 server/discover")
+def server_alive(ctx: CallContext) -> Iterator[Problem]:
+    """The server still answers after each case (ping, or server/discover in 2026-07-28)."""
+    if ctx.failure is not None:
+        yield Problem(f"the server stopped answering after this case: {ctx.failure}", error_class=type(ctx.failure).__name__)
+    elif ctx.exchange is not None and ctx.exchange.error is not None:
+        yield Problem(f"the liveness request failed: {ctx.exchange.error.get('message')!r}", error_class="ping-error")
+
+
+@register("latency", applies_to=("go", "no-go"), reference="common practice: a per-tool latency budget")
+def latency(ctx: CallContext) -> Iterator[Problem]:
+    """Every call answers within the tool's latency budget (when one is configured)."""
+    ex, tool = ctx.exchange, ctx.tool
+    if ex is None or tool is None or ex.finished is None:
+        return
+    budget = ctx.settings.budget_for(tool.name)
+    if budget is not None and ex.duration > budget:
+        yield Problem(f"took {ex.duration:.3f}s, over the budget of {budget:g}s", error_class="over-budget")
+
+
+# -- tool level ----------------------------------------------------------------------------------------
+
+
+@register("accepts_some_go", applies_to=("tool",), reference="common practice: a tool that refuses every valid input is broken or mis-described")
+def accepts_some_go(ctx: CallContext) -> Iterator[Problem]:
+    """A tool accepts at least one of its go cases."""
+    stats = ctx.stats
+    if stats is None or stats.go_calls == 0:
+        return
+    if stats.go_accepted == 0:
+        yield Problem(f"rejected all {stats.go_calls} go cases (the schema promises more than the tool accepts)", error_class="rejects-all")
+
+
+# -- the advertised tool itself ----------------------------------------------------------------------
+
+_TOOL_NAME = re.compile(r"^[A-Za-z0-9_.-]{1,128}$")
+
+
+@register("schema_usable", applies_to=("catalog",), reference="MCP 2025-11-25 basic/index (JSON Schema usage); JSON Schema 2020-12; jsonschema")
+def schema_usable(ctx: CallContext) -> Iterator[Problem]:
+    """The inputSchema is a valid JSON Schema of a known dialect, with no remote ``$ref``, rooted at an object."""
+    from feeler.errors import SchemaProblem
+    from feeler.generate import compile_schema
+
+    tool = ctx.tool
+    if tool is None:
+        return
+    schema = tool.input_schema
+    if not isinstance(schema, dict) or schema.get("type") != "object":
+        yield Problem('the inputSchema must be an object schema with "type": "object" at its root', error_class="root-type")
+    try:
+        compile_schema(schema)
+    except SchemaProblem as exc:
+        yield Problem(f"the inputSchema cannot be used: {exc}", error_class=exc.reason)
+    if tool.output_schema is not None:
+        from feeler.check.schemas import output_validator
+
+        if output_validator(tool.output_schema) is None:
+            yield Problem("the outputSchema is not a valid JSON Schema", error_class="output-schema-invalid")
+
+
+@register("tool_name", applies_to=("catalog",), severity="warning", reference="MCP 2025-11-25 server/tools (tool names, SHOULD)")
+def tool_name(ctx: CallContext) -> Iterator[Problem]:
+    """Tool names are 1 to 128 characters of A-Z, a-z, 0-9, ``_``, ``-`` and ``.`` (a SHOULD since 2025-11-25)."""
+    if ctx.tool is not None and not _TOOL_NAME.match(ctx.tool.name):
+        yield Problem(f"tool name {ctx.tool.name!r} does not follow the naming guidance", error_class="name")

@@ -1,0 +1,123 @@
+"""``feeler check TARGET`` and ``feeler replay FILE``."""
+
+from __future__ import annotations
+
+import sys
+from typing import Any
+
+import click
+
+from feeler.cli_options import ConnectOptions, target_options
+from feeler.errors import UsageError
+
+__all__ = ["check", "replay_command"]
+
+
+def _budgets(values: tuple[str, ...], config: dict[str, Any]) -> dict[str, float]:
+    out = {str(k): float(v) for k, v in (config or {}).items()}
+    for value in values:
+        name, sep, seconds = value.rpartition("=")
+        try:
+            out[name if sep else "*"] = float(seconds)
+        except ValueError:
+            raise UsageError(f"--budget {value!r}: expected SECONDS or TOOL=SECONDS") from None
+    return out
+
+
+@click.command("check")
+@target_options
+@click.option("--seed", type=int, default=None, help="Seed for generated cases (default 0: the same cases every run).")
+@click.option("--go-examples", type=click.IntRange(min=0), default=None, help="Drawn go cases per tool, besides the boundary cases [20].")
+@click.option("--include", multiple=True, metavar="PATTERN", help="Only tools matching this glob (repeatable).")
+@click.option("--exclude", multiple=True, metavar="PATTERN", help="Skip tools matching this glob (repeatable).")
+@click.option("--allow-destructive", is_flag=True, help="Also call tools annotated destructiveHint: true.")
+@click.option("--strict", "strict_go", is_flag=True, help="isError on a go case is a finding, not just counted.")
+@click.option("--budget", multiple=True, metavar="[TOOL=]SECONDS", help="Latency budget per call (repeatable).")
+@click.option("--check", "checks", multiple=True, metavar="NAME", help="Run only these checks (repeatable).")
+@click.option("--skip-check", "skip_checks", multiple=True, metavar="NAME", help="Do not run this check (repeatable).")
+@click.option("--no-probes", is_flag=True, help="Do not send protocol-level no-go requests.")
+@click.option("--dry-run", is_flag=True, help="List the calls that would be made; call no tool.")
+@click.option("--every-revision", is_flag=True, help="Check under each protocol revision the server supports.")
+@click.option("--format", "fmt", type=click.Choice(["text", "json"]), default="text", show_default=True)
+@click.option("--replay-dir", default=None, help="Where replay files go [.feeler/replays].")
+@click.option("-v", "--verbose", is_flag=True, help="Show full arguments in findings.")
+def check(**kwargs: Any) -> int:
+    """Call every tool of TARGET with go and no-go cases and check every answer.
+
+    Exit code 0: nothing found; 1: findings; 2: usage or connection error.
+    Never point feeler at a production system: it calls tools for real.
+    """
+    from feeler.check.registry import CheckSettings
+    from feeler.check.report import report_json, report_text
+    from feeler.check.runner import RunOptions, Runner
+    from feeler.config import load_config
+
+    config = load_config()
+    fmt = kwargs.pop("fmt")
+    verbose = kwargs.pop("verbose")
+    every = kwargs.pop("every_revision")
+    names = kwargs["target"]
+    configured = config.targets()
+    if len(names) == 1 and names[0] in configured:
+        conn_target = configured[names[0]]
+        kwargs["target"] = ("placeholder",)
+        opts = ConnectOptions(kwargs)
+        opts.target = conn_target
+    else:
+        opts = ConnectOptions(kwargs)
+    if opts.session["revision"] is None and config.get("revision"):
+        opts.session["revision"] = config.get("revision")
+    options = RunOptions(
+        seed=kwargs["seed"] if kwargs["seed"] is not None else config.get("seed", 0),
+        go_examples=kwargs["go_examples"] if kwargs["go_examples"] is not None else config.get("go_examples", 20),
+        include=list(kwargs["include"]) or list(config.get("include", [])),
+        exclude=list(kwargs["exclude"]) or list(config.get("exclude", [])),
+        allow_destructive=kwargs["allow_destructive"] or bool(config.get("allow_destructive", False)),
+        checks=list(kwargs["checks"]) or config.get("checks"),
+        skip_checks=list(kwargs["skip_checks"]) or list(config.get("skip_checks", [])),
+        settings=CheckSettings(
+            strict_go=kwargs["strict_go"] or bool(config.get("strict_go", False)),
+            latency_budget=_budgets(kwargs["budget"], config.get("budgets", {})),
+        ),
+        probes=not kwargs["no_probes"],
+        dry_run=kwargs["dry_run"],
+        replay_dir=kwargs["replay_dir"] or config.get("replay_dir", ".feeler/replays"),
+    )
+    progress = (lambda line: click.echo(line, err=True)) if sys.stderr.isatty() or fmt == "text" else None
+    if every:
+        from feeler.check.revisions import check_every_revision
+
+        return check_every_revision(opts, options, fmt=fmt, progress=progress)
+    report = Runner(opts.target, options, session_options=opts.session, progress=progress).run()
+    if options.dry_run:
+        for call in report.planned:
+            click.echo(f"{call.tool}\t{call.kind}\t{call.keyword or '-'}\t{call.path or '-'}\t{call.arguments!r}")
+        click.echo(f"feeler: {len(report.planned)} calls would be made (dry run)", err=True)
+        return 0
+    click.echo(report_json(report) if fmt == "json" else report_text(report, verbose=verbose), nl=False)
+    return report.exit_code()
+
+
+@click.command("replay")
+@click.argument("file", type=click.Path(dir_okay=False))
+@click.option("--timeout", type=click.FloatRange(min=0.1), default=30.0, show_default=True)
+def replay_command(file: str, timeout: float) -> int:
+    """Send the request recorded in a replay FILE again and show the answer.
+
+    Exit code 1 when the finding shows again, 0 when it does not, 2 on errors.
+    """
+    from feeler.check.replay import load_replay, replay
+
+    data = load_replay(file)
+    outcome = replay(data, timeout=timeout)
+    click.echo(f"sent:     {outcome.request}")
+    click.echo(f"answer:   {outcome.answer}")
+    finding = data["finding"]
+    if outcome.reproduced:
+        click.echo(f"reproduced: [{finding.get('check')}] {outcome.messages[0] if outcome.messages else finding.get('message')}")
+        return 1
+    click.echo(f"not reproduced: [{finding.get('check')}] {finding.get('message')}")
+    return 0
+
+
+replay = replay_command

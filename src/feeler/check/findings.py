@@ -1,0 +1,98 @@
+"""Findings: problems with their context, deduplicated by signature, each with a replay file."""
+
+from __future__ import annotations
+
+import hashlib
+import json
+from dataclasses import dataclass, field
+from typing import Any
+
+__all__ = ["Finding", "FindingSet"]
+
+
+@dataclass
+class Finding:
+    """One defect feeler found.
+
+    Fields (also the keys of ``--format json``): ``check``, ``severity`` (error / warning), ``tool``,
+    ``kind`` (go / no-go / probe / alive / tool), ``keyword`` and ``path`` (for schema cases),
+    ``message``, ``arguments`` (the smallest arguments that show it), ``revision``, ``replay`` (file),
+    ``count`` (how many calls showed the same signature).
+    """
+
+    check: str
+    severity: str
+    tool: str | None
+    kind: str
+    message: str
+    error_class: str = ""
+    keyword: str | None = None
+    path: str | None = None
+    arguments: Any = None
+    revision: str | None = None
+    request_text: str | None = None
+    answer_text: str | None = None
+    replay: str | None = None
+    count: int = 1
+    extra: dict[str, Any] = field(default_factory=dict)
+
+    @property
+    def signature(self) -> str:
+        """Same check, tool, keyword and path, and error class: the same finding."""
+        return "|".join(str(x) for x in (self.check, self.tool, self.keyword, self.path, self.error_class))
+
+    @property
+    def short_id(self) -> str:
+        return hashlib.sha1(self.signature.encode("utf-8")).hexdigest()[:10]
+
+    def to_json(self) -> dict[str, Any]:
+        out = {
+            "check": self.check,
+            "severity": self.severity,
+            "tool": self.tool,
+            "kind": self.kind,
+            "keyword": self.keyword,
+            "path": self.path,
+            "message": self.message,
+            "arguments": self.arguments,
+            "revision": self.revision,
+            "replay": self.replay,
+            "count": self.count,
+            "signature": self.signature,
+        }
+        return out
+
+
+def _size(value: Any) -> int:
+    return len(json.dumps(value, ensure_ascii=False, default=str))
+
+
+class FindingSet:
+    """Findings keyed by signature; keeps the one with the smallest arguments and counts repeats."""
+
+    def __init__(self) -> None:
+        self._by_sig: dict[str, Finding] = {}
+
+    def add(self, finding: Finding) -> bool:
+        """Add; True when the signature is new."""
+        known = self._by_sig.get(finding.signature)
+        if known is None:
+            self._by_sig[finding.signature] = finding
+            return True
+        known.count += 1
+        if _size(finding.arguments) < _size(known.arguments):
+            finding.count = known.count
+            self._by_sig[finding.signature] = finding
+        return False
+
+    def __iter__(self):  # type: ignore[no-untyped-def]
+        return iter(sorted(self._by_sig.values(), key=lambda f: (f.tool or "", f.check, f.keyword or "", f.path or "")))
+
+    def __len__(self) -> int:
+        return len(self._by_sig)
+
+    def errors(self) -> list[Finding]:
+        return [f for f in self if f.severity == "error"]
+
+    def signatures(self) -> set[str]:
+        return set(self._by_sig)

@@ -1,0 +1,143 @@
+"""The check registry: every check is one small generator function, registered in :data:`CHECKS`.
+
+A check looks at one :class:`CallContext` (a tool call, a probe, or a liveness ping) and yields
+:class:`Problem` objects that carry only a message. The runner fills in the rest (tool, case, keyword,
+path, replay file), as ``jsonschema.iter_errors`` fills in paths for its keyword functions.
+
+Users add checks with :func:`register`::
+
+    from feeler.check import Problem, register
+
+    @register("answers_in_english", applies_to=("go",), severity="warning")
+    def answers_in_english(ctx):
+        \"\"\"Text content is English (our servers' house rule).\"\"\"
+        ...
+        yield Problem("the answer is not in English")
+"""
+
+from __future__ import annotations
+
+from collections.abc import Callable, Iterator
+from dataclasses import dataclass, field
+from typing import Any
+
+from feeler.catalog import Tool
+from feeler.errors import TargetError, UsageError
+from feeler.session import Exchange
+
+__all__ = ["CHECKS", "CASE_KINDS", "SEVERITIES", "CallContext", "Check", "CheckSettings", "Problem", "register", "select_checks"]
+
+#: What a check can look at: the advertised tool itself, a go case, a no-go case, a protocol probe,
+#: the liveness ping after a case, or the whole tool after all its cases.
+CASE_KINDS = ("catalog", "go", "no-go", "probe", "alive", "tool")
+SEVERITIES = ("error", "warning")
+
+
+@dataclass(frozen=True)
+class Problem:
+    """What a check found. *error_class* groups problems into one finding signature."""
+
+    message: str
+    severity: str | None = None
+    error_class: str = ""
+
+
+@dataclass(frozen=True)
+class CheckSettings:
+    """How strict the checks are.
+
+    :param strict_go: ``isError: true`` on a go case is a finding (otherwise it is counted and reported).
+    :param latency_budget: seconds per call, by tool name; ``"*"`` is the default for every tool.
+    :param secrets: strings that must never appear in an answer (values of secret-looking env vars).
+    """
+
+    strict_go: bool = False
+    latency_budget: dict[str, float] = field(default_factory=dict)
+    secrets: tuple[str, ...] = ()
+
+    def budget_for(self, tool: str) -> float | None:
+        return self.latency_budget.get(tool, self.latency_budget.get("*"))
+
+
+@dataclass
+class CallContext:
+    """Everything a check may look at for one call.
+
+    :param kind: one of :data:`CASE_KINDS`.
+    :param case: the generated case (go / no-go), a probe, or None.
+    :param failure: the target failure instead of an answer (timeout, exit), if any.
+    :param stats: per-tool counters (for ``tool`` checks).
+    """
+
+    kind: str
+    tool: Tool | None
+    revision: str
+    era: str
+    settings: CheckSettings
+    exchange: Exchange | None = None
+    case: Any = None
+    failure: TargetError | None = None
+    stats: Any = None
+
+    @property
+    def keyword(self) -> str | None:
+        return getattr(self.case, "keyword", None)
+
+    @property
+    def path(self) -> str | None:
+        return getattr(self.case, "path", None)
+
+
+CheckFunc = Callable[[CallContext], Iterator[Problem]]
+
+
+@dataclass(frozen=True)
+class Check:
+    name: str
+    func: CheckFunc
+    applies_to: tuple[str, ...]
+    severity: str
+    doc: str
+    reference: str
+
+    def run(self, ctx: CallContext) -> list[Problem]:
+        if ctx.kind not in self.applies_to:
+            return []
+        return [p if p.severity else Problem(p.message, self.severity, p.error_class) for p in self.func(ctx)]
+
+
+CHECKS: dict[str, Check] = {}
+
+
+def register(
+    name: str, *, applies_to: tuple[str, ...], severity: str = "error", reference: str = ""
+) -> Callable[[CheckFunc], CheckFunc]:
+    """Register a check under *name*; checked when registered (kinds, severity, docstring)."""
+
+    def decorate(func: CheckFunc) -> CheckFunc:
+        unknown = set(applies_to) - set(CASE_KINDS)
+        if unknown:
+            raise UsageError(f"check {name!r}: applies_to has unknown kinds {sorted(unknown)}; use {CASE_KINDS}")
+        if severity not in SEVERITIES:
+            raise UsageError(f"check {name!r}: severity={severity!r} must be one of {SEVERITIES}")
+        if not (func.__doc__ or "").strip():
+            raise UsageError(f"check {name!r}: give it a docstring; `feeler check --list` shows it")
+        if name in CHECKS and CHECKS[name].func is not func:
+            raise UsageError(f"check {name!r} is registered twice")
+        CHECKS[name] = Check(name, func, tuple(applies_to), severity, (func.__doc__ or "").strip().splitlines()[0], reference)
+        return func
+
+    return decorate
+
+
+def select_checks(names: list[str] | None = None, skip: list[str] | None = None) -> list[Check]:
+    """The checks to run: all by default, or *names*; minus *skip*. Unknown names are a usage error."""
+    from difflib import get_close_matches
+
+    for name in [*(names or []), *(skip or [])]:
+        if name not in CHECKS:
+            close = get_close_matches(name, list(CHECKS), n=1)
+            hint = f"; did you mean {close[0]!r}?" if close else f"; known checks: {', '.join(sorted(CHECKS))}"
+            raise UsageError(f"unknown check {name!r}{hint}")
+    chosen = [CHECKS[n] for n in names] if names else list(CHECKS.values())
+    return [c for c in chosen if c.name not in set(skip or [])]

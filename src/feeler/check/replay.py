@@ -1,0 +1,121 @@
+"""Replay files: the exact request that showed a finding, and where to send it again.
+
+A replay file is JSON: ``format``, ``target`` (how to reach the server: never a secret: env and header
+*names* only), ``revision``, ``request`` (the exact text sent), ``answer`` (what came back then) and
+``finding``. ``feeler replay FILE`` re-sends the request and runs the finding's check on the new answer.
+"""
+
+from __future__ import annotations
+
+import json
+import os
+from dataclasses import dataclass
+from datetime import datetime, timezone
+from typing import Any
+
+from feeler.catalog import Tool
+from feeler.check.findings import Finding
+from feeler.errors import TargetError, UsageError
+from feeler.target import Target
+
+__all__ = ["REPLAY_FORMAT", "ReplayOutcome", "load_replay", "replay", "write_replay"]
+
+REPLAY_FORMAT = "feeler-replay/1"
+
+
+def write_replay(folder: str, target: Target, finding: Finding) -> str:
+    """Write the replay file of *finding* under *folder*/<target>/ and return its path."""
+    from feeler.commands import write_text_atomic
+
+    data = {
+        "format": REPLAY_FORMAT,
+        "recorded": datetime.now(timezone.utc).strftime("%Y-%m-%dT%H:%M:%SZ"),
+        "target": target.to_json(),
+        "revision": finding.revision,
+        "request": finding.request_text,
+        "answer": finding.answer_text,
+        "finding": {k: v for k, v in finding.to_json().items() if k != "replay"},
+    }
+    path = os.path.join(folder, target.slug(), f"{finding.check}-{finding.short_id}.json")
+    write_text_atomic(path, json.dumps(data, indent=2, ensure_ascii=False, sort_keys=True) + "\n")
+    return path
+
+
+def load_replay(path: str) -> dict[str, Any]:
+    try:
+        with open(path, encoding="utf-8") as handle:
+            data = json.load(handle)
+    except OSError as exc:
+        raise UsageError(f"cannot read the replay file {path}: {exc.strerror}") from exc
+    except json.JSONDecodeError as exc:
+        raise UsageError(f"{path}:{exc.lineno}:{exc.colno}: the replay file is not valid JSON ({exc.msg})") from exc
+    if not isinstance(data, dict) or data.get("format") != REPLAY_FORMAT:
+        raise UsageError(f"{path}: not a feeler replay file (expected format {REPLAY_FORMAT!r})")
+    for key in ("target", "request", "finding"):
+        if key not in data:
+            raise UsageError(f"{path}: the replay file has no {key!r}; write it again with `feeler check`")
+    return data
+
+
+@dataclass
+class ReplayOutcome:
+    request: str
+    answer: str | None
+    reproduced: bool
+    messages: list[str]
+
+
+class _Case:
+    def __init__(self, finding: dict[str, Any]) -> None:
+        self.kind = finding.get("kind")
+        self.keyword = finding.get("keyword")
+        self.path = finding.get("path")
+        self.arguments = finding.get("arguments")
+
+
+def replay(data: dict[str, Any], *, timeout: float = 30.0, target: Target | None = None) -> ReplayOutcome:
+    """Send the recorded request again; say whether the same check finds the same problem."""
+    from feeler.check.registry import CHECKS, CallContext, CheckSettings
+    from feeler.check.runner import secret_values
+    from feeler.connect import capture, open_session
+
+    tgt = target or Target.from_json(data["target"])
+    finding = data["finding"]
+    check = CHECKS.get(finding.get("check", ""))
+    session = open_session(tgt, revision=data.get("revision"), timeout=timeout)
+    try:
+        catalog = capture(session)
+        tool = None
+        if finding.get("tool"):
+            try:
+                tool = catalog.tool(finding["tool"])
+            except KeyError:
+                tool = Tool({"name": finding["tool"]})
+        case: Any = _Case(finding)
+        kind = finding.get("kind") or "go"
+        if kind == "probe":
+            from feeler.generate import protocol_probes
+
+            probe_name = str(finding.get("signature", "")).split("|")[-1].split(":")[0]
+            meta = session.meta() if session.era == "modern" else None
+            probes = {p.name: p for p in protocol_probes(str(session.revision), finding.get("tool") or "tool", meta)}
+            case = probes.get(probe_name, case)
+        ctx_kind = "alive" if finding.get("check") == "server_alive" else kind
+        ctx = CallContext(ctx_kind, tool, str(session.revision), str(session.era), CheckSettings(secrets=secret_values(dict(tgt.env))), case=case)
+        answer = None
+        try:
+            expect = getattr(case, "expects_answer", True)
+            ex = session.send_raw(data["request"], timeout=timeout, expect_answer=expect)
+            answer = next((f.text for f in reversed(ex.frames) if f.direction == "in"), None)
+            if ctx_kind == "alive":
+                ctx.exchange = session.ping(timeout=min(timeout, 5.0))
+            else:
+                ctx.exchange = ex
+        except TargetError as exc:
+            ctx.failure = exc
+        problems = check.run(ctx) if check is not None else []
+        wanted = finding.get("signature", "").split("|")[-1]
+        same = [p for p in problems if not wanted or p.error_class == wanted]
+        return ReplayOutcome(data["request"], answer, bool(same), [p.message for p in problems])
+    finally:
+        session.close()

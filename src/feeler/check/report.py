@@ -1,0 +1,104 @@
+"""Turning a run into text for people (grouped by tool) or JSON for machines."""
+
+from __future__ import annotations
+
+import json
+from typing import Any
+
+from feeler.check.runner import RunReport
+
+__all__ = ["report_json", "report_text"]
+
+
+def _median(values: list[float]) -> float:
+    ordered = sorted(values)
+    return ordered[len(ordered) // 2] if ordered else 0.0
+
+
+def report_text(report: RunReport, *, verbose: bool = False) -> str:
+    """The terminal report: a header, then one block per tool with its counters and findings."""
+    cat = report.catalog
+    lines: list[str] = []
+    if cat is not None:
+        server = cat.server.get("name", "?")
+        lines.append(f"feeler check: {report.target.name} ({server}, revision {cat.revision}, {cat.era} era)")
+    by_tool: dict[str | None, list[Any]] = {}
+    for finding in report.findings:
+        by_tool.setdefault(finding.tool, []).append(finding)
+    for name, stats in sorted(report.tools.items()):
+        flags = [] if stats.annotated else ["no annotations"]
+        head = f"\n{name}" + (f"  [{', '.join(flags)}]" if flags else "")
+        lines.append(head)
+        if stats.skipped:
+            lines.append(f"  skipped: {stats.skipped}")
+        else:
+            if stats.schema_problem:
+                lines.append(f"  no cases: {stats.schema_problem}")
+            lines.append(
+                f"  go: {stats.go_accepted}/{stats.go_calls} accepted"
+                + (f", {stats.go_is_error} answered isError" if stats.go_is_error else "")
+                + f"; no-go: {stats.nogo_rejected_protocol + stats.nogo_rejected_is_error}/{stats.nogo_calls} rejected"
+                + f"; probes: {stats.probes}"
+                + (f"; median {_median(stats.durations) * 1000:.1f} ms" if stats.durations else "")
+            )
+            if stats.nogo_calls:
+                lines.append(f"  rejects with {stats.rejection_style(report.revision)}")
+        for finding in by_tool.pop(name, []):
+            lines.extend(_finding_lines(finding, verbose))
+    rest = [f for tool_findings in by_tool.values() for f in tool_findings]
+    if rest:
+        lines.append("\nserver")
+        for finding in rest:
+            lines.extend(_finding_lines(finding, verbose))
+    errors = len(report.findings.errors())
+    warnings = len(report.findings) - errors
+    lines.append(
+        f"\n{errors} finding{'s' if errors != 1 else ''}, {warnings} warning{'s' if warnings != 1 else ''}"
+        + (f", {report.restarts} server restart{'s' if report.restarts != 1 else ''}" if report.restarts else "")
+    )
+    return "\n".join(lines) + "\n"
+
+
+def _finding_lines(finding: Any, verbose: bool) -> list[str]:
+    mark = "FINDING" if finding.severity == "error" else "warning"
+    out = [f"  {mark} [{finding.check}] ({finding.kind}) {finding.message}"]
+    if finding.arguments is not None and finding.kind in ("go", "no-go"):
+        args = json.dumps(finding.arguments, ensure_ascii=False)
+        out.append(f"      arguments: {args if len(args) <= 200 or verbose else args[:197] + '...'}")
+    if finding.count > 1:
+        out.append(f"      seen {finding.count} times")
+    if finding.replay:
+        out.append(f"      replay: feeler replay {finding.replay}")
+    return out
+
+
+def report_json(report: RunReport) -> str:
+    """Machine-readable report; the finding fields are documented on :class:`~feeler.check.findings.Finding`."""
+    cat = report.catalog
+    data = {
+        "target": report.target.name,
+        "revision": cat.revision if cat else None,
+        "era": cat.era if cat else None,
+        "server": cat.server if cat else None,
+        "tools": {
+            name: {
+                "skipped": s.skipped,
+                "annotated": s.annotated,
+                "goCalls": s.go_calls,
+                "goAccepted": s.go_accepted,
+                "goIsError": s.go_is_error,
+                "nogoCalls": s.nogo_calls,
+                "nogoRejectedProtocol": s.nogo_rejected_protocol,
+                "nogoRejectedIsError": s.nogo_rejected_is_error,
+                "nogoAccepted": s.nogo_accepted,
+                "probes": s.probes,
+                "medianSeconds": _median(s.durations),
+                "schemaProblem": s.schema_problem,
+            }
+            for name, s in sorted(report.tools.items())
+        },
+        "findings": [f.to_json() for f in report.findings],
+        "restarts": report.restarts,
+        "planned": [c.__dict__ for c in report.planned],
+    }
+    return json.dumps(data, indent=2, ensure_ascii=False, default=str) + "\n"

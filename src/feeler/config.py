@@ -1,0 +1,132 @@
+"""``[tool.feeler]`` in pyproject.toml: the settings every entry point (CLI, pytest plugin) shares.
+
+Example::
+
+    [tool.feeler]
+    targets = { demo = "python -m feeler.demo", staging = { url = "http://127.0.0.1:8000/mcp", bearer_env = "MCP_TOKEN" } }
+    exclude = ["purge_*"]
+    budgets = { "*" = 2.0, slow_report = 10.0 }
+    strict_go = false
+    go_examples = 20
+    output_masks = ["$.structuredContent.issuedAt"]
+
+Unknown keys and wrong types are errors that name the key, the value and what is expected.
+"""
+
+from __future__ import annotations
+
+import difflib
+import os
+import sys
+from collections.abc import Mapping
+from dataclasses import dataclass, field
+from typing import Any
+
+from feeler.errors import UsageError
+from feeler.target import Target
+
+if sys.version_info >= (3, 11):
+    import tomllib
+else:  # pragma: no cover - Python 3.10
+    import tomli as tomllib
+
+__all__ = ["Config", "load_config"]
+
+#: key -> (expected Python types, description)
+_KEYS: dict[str, tuple[tuple[type, ...], str]] = {
+    "targets": ((dict,), "a table of name = target"),
+    "include": ((list,), "a list of tool name patterns"),
+    "exclude": ((list,), "a list of tool name patterns"),
+    "allow_destructive": ((bool,), "true or false"),
+    "strict_go": ((bool,), "true or false"),
+    "budgets": ((dict,), "a table of tool name (or \"*\") = seconds"),
+    "go_examples": ((int,), "a whole number"),
+    "seed": ((int,), "a whole number"),
+    "revision": ((str,), "a protocol revision"),
+    "timeout": ((int, float), "seconds"),
+    "checks": ((list,), "a list of check names"),
+    "skip_checks": ((list,), "a list of check names"),
+    "profile": ((str,), "a hypothesis settings profile name: ci, dev or nightly"),
+    "baselines": ((str,), "a folder"),
+    "output_masks": ((list,), "a list of JSON paths or re: patterns"),
+    "replay_dir": ((str,), "a folder"),
+}
+
+
+@dataclass
+class Config:
+    """The validated ``[tool.feeler]`` table (empty when there is none)."""
+
+    source: str | None = None
+    values: dict[str, Any] = field(default_factory=dict)
+
+    def get(self, key: str, default: Any = None) -> Any:
+        return self.values.get(key, default)
+
+    def targets(self) -> dict[str, Target]:
+        out = {}
+        for name, spec in (self.values.get("targets") or {}).items():
+            out[name] = _target(name, spec, self.source or "pyproject.toml")
+        return out
+
+
+def _target(name: str, spec: Any, source: str) -> Target:
+    where = f"{source}: [tool.feeler.targets] {name}"
+    if isinstance(spec, str):
+        return Target.parse(spec)
+    if not isinstance(spec, Mapping):
+        raise UsageError(f"{where} must be a string or a table, got {type(spec).__name__}")
+    forms = [k for k in ("command", "url", "module") if k in spec]
+    if len(forms) != 1:
+        raise UsageError(f"{where} needs exactly one of command, url, module")
+    allowed = {"command", "url", "module", "env", "cwd", "headers", "bearer_env", "sse"}
+    unknown = set(spec) - allowed
+    if unknown:
+        raise UsageError(f"{where}: unknown keys {sorted(unknown)}; known: {sorted(allowed)}")
+    first = spec[forms[0]]
+    value: Any = first if not (forms[0] == "command" and isinstance(first, list)) else [str(x) for x in first]
+    if forms[0] == "command" and isinstance(value, str):
+        import shlex
+
+        value = shlex.split(value)
+    if forms[0] == "command":
+        if not value:
+            raise UsageError(f"{where}: the command is empty")
+        return Target(kind="stdio", command=tuple(value), env=dict(spec.get("env", {})), cwd=spec.get("cwd"))
+    return Target.parse(
+        str(first), sse=bool(spec.get("sse", False)), headers=dict(spec.get("headers", {})), bearer_env=spec.get("bearer_env")
+    )
+
+
+def load_config(path: str | None = None, *, start: str | None = None) -> Config:
+    """Read ``[tool.feeler]`` from *path*, or from the nearest pyproject.toml above *start* (cwd)."""
+    if path is None:
+        folder = os.path.abspath(start or os.getcwd())
+        while True:
+            candidate = os.path.join(folder, "pyproject.toml")
+            if os.path.isfile(candidate):
+                path = candidate
+                break
+            parent = os.path.dirname(folder)
+            if parent == folder:
+                return Config()
+            folder = parent
+    try:
+        with open(path, "rb") as handle:
+            data = tomllib.load(handle)
+    except OSError as exc:
+        raise UsageError(f"cannot read {path}: {exc.strerror}") from exc
+    except tomllib.TOMLDecodeError as exc:
+        raise UsageError(f"{path}: not valid TOML ({exc})") from exc
+    table = data.get("tool", {}).get("feeler", {})
+    if not isinstance(table, dict):
+        raise UsageError(f"{path}: [tool.feeler] must be a table")
+    for key, value in table.items():
+        if key not in _KEYS:
+            close = difflib.get_close_matches(key, list(_KEYS), n=1)
+            hint = f"; did you mean {close[0]!r}?" if close else f"; known keys: {', '.join(sorted(_KEYS))}"
+            raise UsageError(f"{path}: unknown key [tool.feeler] {key}{hint}")
+        types, what = _KEYS[key]
+        if not isinstance(value, types) or (isinstance(value, bool) and bool not in types):
+            raise UsageError(f"{path}: [tool.feeler] {key}={value!r} must be {what}")
+    return Config(source=path, values=table)

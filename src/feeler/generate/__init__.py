@@ -1,0 +1,34 @@
+"""Go and no-go arguments from a tool's input schema, each proven by the oracle (``jsonschema``).
+
+Public API only; the code lives in the private modules and in the keyword tables
+(:data:`~feeler.generate.mutators.MUTATORS`, :data:`~feeler.generate.boundaries.BOUNDARIES`)::
+
+    from feeler.generate import ToolSchema, go_cases, nogo_cases, arguments, coverage
+"""
+
+from __future__ import annotations
+
+from feeler.generate._schema import DIALECTS, ToolSchema, compile_schema
+from feeler.generate.boundaries import BOUNDARIES
+from feeler.generate.cases import Case, Tally, arguments, drawn_cases, go_cases, nogo_cases
+from feeler.generate.coverage import KeywordCoverage, coverage
+from feeler.generate.mutators import MUTATORS
+from feeler.generate.probes import Probe, protocol_probes
+
+__all__ = [
+    "BOUNDARIES",
+    "DIALECTS",
+    "MUTATORS",
+    "Case",
+    "KeywordCoverage",
+    "Probe",
+    "Tally",
+    "ToolSchema",
+    "arguments",
+    "compile_schema",
+    "coverage",
+    "drawn_cases",
+    "go_cases",
+    "nogo_cases",
+    "protocol_probes",
+]

@@ -1,0 +1,79 @@
+"""``feeler cases SCHEMA_FILE``: print the go and no-go cases for one schema as JSON Lines.
+
+The lead wires the command into the ``feeler`` group (``"cases": "feeler.generate.cli:cases"``).
+"""
+
+from __future__ import annotations
+
+import json
+import sys
+from typing import Any
+
+import click
+
+from feeler.errors import SchemaProblem
+from feeler.generate._schema import ToolSchema
+from feeler.generate.cases import Tally, go_cases, nogo_cases
+
+__all__ = ["cases", "load_schema"]
+
+
+def load_schema(path: str) -> tuple[Any, str | None]:
+    """Read *path*: a JSON Schema, or a tool object carrying ``inputSchema``. Returns ``(schema, tool name)``.
+
+    :raises click.UsageError: unreadable file or invalid JSON (with line and column).
+    """
+    try:
+        with open(path, encoding="utf-8") as handle:
+            text = handle.read()
+    except OSError as exc:
+        raise click.UsageError(f"cannot read {path!r}: {exc.strerror or exc}") from exc
+    except UnicodeDecodeError as exc:
+        raise click.UsageError(f"{path!r} is not UTF-8 text: {exc.reason}") from exc
+    try:
+        document = json.loads(text)
+    except json.JSONDecodeError as exc:
+        raise click.UsageError(f"{path!r} is not valid JSON: {exc.msg} at line {exc.lineno}, column {exc.colno}") from exc
+    if isinstance(document, dict) and isinstance(document.get("inputSchema"), (dict, bool)):
+        name = document.get("name")
+        return document["inputSchema"], name if isinstance(name, str) else None
+    return document, None
+
+
+@click.command("cases")
+@click.argument("schema_file", type=click.Path(dir_okay=False, allow_dash=False))
+@click.option("--seed", type=int, default=0, show_default=True, help="Seed for the drawn go cases.")
+@click.option("--go", "draws", type=click.IntRange(min=0), default=0, show_default=True,
+              help="How many drawn (hypothesis) go cases to add after the boundary cases.")  # fmt: skip
+@click.option("--kind", type=click.Choice(["all", "go", "no-go"]), default="all", show_default=True,
+              help="Print only go or only no-go cases.")  # fmt: skip
+def cases(schema_file: str, seed: int, draws: int, kind: str) -> None:
+    """Print the go and no-go cases feeler would send for SCHEMA_FILE, one JSON object a line.
+
+    SCHEMA_FILE holds a JSON Schema, or a tool object with an ``inputSchema``. Each line has
+    ``kind`` (go or no-go), ``keyword``, ``path``, ``schema_path``, ``origin``, ``note``, ``error``
+    and ``arguments``. Every case was checked with jsonschema before it is printed.
+    """
+    schema, name = load_schema(schema_file)
+    try:
+        ts = ToolSchema(schema, name=name)
+        tally = Tally()
+        found = []
+        if kind in ("all", "go"):
+            found += go_cases(ts, draws=draws, seed=seed, tally=tally)
+        if kind in ("all", "no-go"):
+            found += nogo_cases(ts, tally=tally)
+    except SchemaProblem as exc:
+        raise click.UsageError(f"{schema_file}: {exc} [{exc.reason}]") from exc
+    out = click.get_text_stream("stdout")
+    for case in found:
+        out.write(json.dumps(case.as_json(), ensure_ascii=False, sort_keys=False) + "\n")
+    click.echo(
+        f"{sum(c.kind == 'go' for c in found)} go, {sum(c.kind == 'no-go' for c in found)} no-go cases; "
+        f"refuted by the oracle and dropped: {tally.refuted_go} go, {tally.refuted_nogo} no-go",
+        err=True,
+    )
+
+
+if __name__ == "__main__":  # pragma: no cover
+    sys.exit(cases())

@@ -1,0 +1,494 @@
+"""Smoke tests: every test server, and the demo, started as a real subprocess and driven by hand.
+
+The client here is deliberately raw (subprocess pipes, one JSON-RPC message per line, reads bounded by
+``select`` timeouts) so these tests do not depend on feeler's own transport: they prove that each server
+behaves as its name says. Every process is started in its own process group and ended by pid in a
+``finally`` block.
+"""
+
+from __future__ import annotations
+
+import json
+import os
+import re
+import select
+import signal
+import subprocess
+import sys
+import time
+from collections.abc import Iterator
+from contextlib import contextmanager
+from pathlib import Path
+from typing import Any
+
+import httpx2
+import pytest
+from jsonschema import Draft202012Validator
+
+from demo_changes import CHANGES
+from demo_defects import DEFECTS, UNANNOTATED_TOOLS
+
+SERVERS = Path(__file__).parent / "servers"
+PY = sys.executable
+TIMEOUT = 10.0
+INIT_2025 = {"protocolVersion": "2025-11-25", "capabilities": {}, "clientInfo": {"name": "smoke", "version": "0"}}
+META_2026 = {
+    "io.modelcontextprotocol/protocolVersion": "2026-07-28",
+    "io.modelcontextprotocol/clientCapabilities": {},
+    "io.modelcontextprotocol/clientInfo": {"name": "smoke", "version": "0"},
+}
+
+
+class Wire:
+    """A started server process with bounded line reads on its stdout."""
+
+    def __init__(self, argv: list[str], stderr_path: Path, env: dict[str, str] | None = None) -> None:
+        self.stderr_path = stderr_path
+        self._stderr = open(stderr_path, "wb")  # a file, so a chatty server never blocks on a full pipe
+        self.proc = subprocess.Popen(
+            argv,
+            stdin=subprocess.PIPE,
+            stdout=subprocess.PIPE,
+            stderr=self._stderr,
+            start_new_session=True,
+            env={**os.environ, **(env or {})},
+        )
+        self._buffer = bytearray()
+        self._next_id = 0
+
+    def send(self, message: dict[str, Any]) -> None:
+        assert self.proc.stdin is not None
+        self.proc.stdin.write(json.dumps(message).encode() + b"\n")
+        self.proc.stdin.flush()
+
+    def request(self, method: str, params: dict[str, Any] | None = None) -> int:
+        self._next_id += 1
+        message: dict[str, Any] = {"jsonrpc": "2.0", "id": self._next_id, "method": method}
+        if params is not None:
+            message["params"] = params
+        self.send(message)
+        return self._next_id
+
+    def line(self, timeout: float = TIMEOUT, limit: int = 1 << 20) -> bytes | None:
+        """One stdout line (without the newline), or ``None`` on timeout or end of output."""
+        assert self.proc.stdout is not None
+        fd = self.proc.stdout.fileno()
+        deadline = time.monotonic() + timeout
+        scanned = 0  # bytes already searched for a newline: keeps a 64 MiB line linear
+        while (end := self._buffer.find(b"\n", scanned)) < 0:
+            scanned = len(self._buffer)
+            left = deadline - time.monotonic()
+            if left <= 0 or not select.select([fd], [], [], left)[0]:
+                return None
+            chunk = os.read(fd, limit)
+            if not chunk:
+                return None
+            self._buffer += chunk
+        line = bytes(self._buffer[:end])
+        del self._buffer[: end + 1]
+        return line
+
+    def message(self, timeout: float = TIMEOUT) -> dict[str, Any]:
+        line = self.line(timeout)
+        assert line is not None, f"no answer within {timeout} s; stderr: {self.stderr()[-500:]!r}"
+        return json.loads(line)
+
+    def call(self, method: str, params: dict[str, Any] | None = None, timeout: float = TIMEOUT) -> dict[str, Any]:
+        """Send a request and return the answer with its id (server requests/notifications in between are skipped)."""
+        request_id = self.request(method, params)
+        deadline = time.monotonic() + timeout
+        while True:
+            message = self.message(max(deadline - time.monotonic(), 0.01))
+            if message.get("id") == request_id and "method" not in message:
+                return message
+
+    def handshake(self, version: str = "2025-11-25") -> dict[str, Any]:
+        answer = self.call("initialize", {**INIT_2025, "protocolVersion": version})
+        self.send({"jsonrpc": "2.0", "method": "notifications/initialized"})
+        return answer
+
+    def wait(self, timeout: float = TIMEOUT) -> int | None:
+        try:
+            return self.proc.wait(timeout)
+        except subprocess.TimeoutExpired:
+            return None
+
+    def stderr(self) -> str:
+        self._stderr.flush()
+        return self.stderr_path.read_text(errors="replace")
+
+    def stop(self) -> None:
+        """End the process group by pid; close our ends of the pipes."""
+        try:
+            os.killpg(self.proc.pid, signal.SIGKILL)
+        except ProcessLookupError:
+            pass
+        self.proc.wait(5)
+        for stream in (self.proc.stdin, self.proc.stdout):
+            try:
+                if stream is not None:
+                    stream.close()
+            except BrokenPipeError:
+                pass
+        self._stderr.close()
+
+
+@contextmanager
+def started(tmp_path: Path, *argv: str, env: dict[str, str] | None = None) -> Iterator[Wire]:
+    wire = Wire([PY, *argv], tmp_path / f"stderr-{time.monotonic_ns()}.txt", env)
+    try:
+        yield wire
+    finally:
+        wire.stop()
+
+
+def script(name: str) -> str:
+    return str(SERVERS / f"{name}.py")
+
+
+def ready_url(wire: Wire, timeout: float = 20.0) -> str:
+    """The URL from the server's ``ready on URL`` stderr line (bounded wait)."""
+    deadline = time.monotonic() + timeout
+    while time.monotonic() < deadline:
+        found = re.search(r"ready on (http://127\.0\.0\.1:\d+/mcp)", wire.stderr())
+        if found:
+            return found.group(1)
+        assert wire.proc.poll() is None, f"server exited: {wire.stderr()[-800:]}"
+        time.sleep(0.05)
+    raise AssertionError(f"no ready line within {timeout} s: {wire.stderr()[-800:]}")
+
+
+def post(url: str, body: dict[str, Any], headers: dict[str, str] | None = None) -> httpx2.Response:
+    # MCP 2025-11-25 basic/transports (Streamable HTTP): Accept MUST list both types.
+    base = {"Accept": "application/json, text/event-stream", "Content-Type": "application/json"}
+    return httpx2.post(url, json=body, headers={**base, **(headers or {})}, timeout=TIMEOUT)
+
+
+def rpc_body(response: httpx2.Response) -> dict[str, Any]:
+    """The JSON-RPC message of a JSON or single-event SSE answer."""
+    if response.headers.get("content-type", "").startswith("text/event-stream"):
+        data = [line[5:].strip() for line in response.text.splitlines() if line.startswith("data:") and line[5:].strip()]
+        return json.loads(data[-1])
+    return response.json()
+
+
+def tool_result(answer: dict[str, Any]) -> dict[str, Any]:
+    assert "result" in answer, answer
+    return answer["result"]
+
+
+# --- demo -------------------------------------------------------------------------------------------
+
+CURRENT_TOOLS = {"list_berths", "quote_fee", "book_berth", "order_services", "register_vessel", "cancel_booking"}
+
+
+def test_demo_stdio_handshake_era_catalog(tmp_path: Path) -> None:
+    with started(tmp_path, "-m", "feeler.demo") as wire:
+        init = wire.handshake("2025-06-18")
+        # MCP 2025-11-25 basic/lifecycle: a supported requested version is echoed.
+        assert init["result"]["protocolVersion"] == "2025-06-18"
+        tools = {t["name"]: t for t in tool_result(wire.call("tools/list"))["tools"]}
+        assert set(tools) == CURRENT_TOOLS
+        # MCP 2025-06-18 server/tools: ToolAnnotations; one tool destructive, one with none at all.
+        assert tools["cancel_booking"]["annotations"]["destructiveHint"] is True
+        assert all("annotations" not in tools[name] for name in UNANNOTATED_TOOLS)
+        assert tools["list_berths"]["annotations"]["readOnlyHint"] is True
+        assert {"quote_fee", "book_berth", "list_berths"} <= {n for n, t in tools.items() if "outputSchema" in t}
+        for tool in tools.values():  # JSON Schema 2020-12: every published schema is a valid schema (jsonschema)
+            Draft202012Validator.check_schema(tool["inputSchema"])
+        prompts = tool_result(wire.call("prompts/list"))["prompts"]
+        assert [(a["name"], a.get("required")) for a in prompts[0]["arguments"]] == [("vessel_name", True), ("arrival_date", False)]
+        assert len(tool_result(wire.call("resources/list"))["resources"]) == 2
+        assert len(tool_result(wire.call("resources/templates/list"))["resourceTemplates"]) == 1
+
+
+def test_demo_stdio_modern_era(tmp_path: Path) -> None:
+    with started(tmp_path, "-m", "feeler.demo") as wire:
+        # MCP 2026-07-28 server/discover: DiscoverResult with resultType, supportedVersions, ttlMs, cacheScope.
+        discover = tool_result(wire.call("server/discover", {"_meta": META_2026}))
+        assert discover["resultType"] == "complete"
+        assert "2026-07-28" in discover["supportedVersions"]
+        assert {"ttlMs", "cacheScope", "capabilities"} <= set(discover)
+        listed = tool_result(wire.call("tools/list", {"_meta": META_2026}))
+        assert listed["resultType"] == "complete" and {t["name"] for t in listed["tools"]} == CURRENT_TOOLS
+
+
+@pytest.fixture(scope="module")
+def demo_wire(tmp_path_factory: pytest.TempPathFactory) -> Iterator[tuple[Wire, dict[str, Any]]]:
+    """One demo process (handshake done) shared by the defect tests; ended by pid at teardown."""
+    with started(tmp_path_factory.mktemp("demo"), "-m", "feeler.demo") as wire:
+        wire.handshake()
+        tools = {t["name"]: t for t in tool_result(wire.call("tools/list"))["tools"]}
+        yield wire, tools
+
+
+@pytest.mark.parametrize("defect", DEFECTS, ids=lambda d: d.key)
+def test_demo_planted_defect_reproduces(demo_wire: tuple[Wire, dict[str, Any]], defect: Any) -> None:
+    """The answer key in tests/demo_defects.py is true on the wire."""
+    wire, tools = demo_wire
+    schema = tools[defect.tool]["inputSchema"]
+    checker = Draft202012Validator(schema, format_checker=Draft202012Validator.FORMAT_CHECKER)
+    # jsonschema as the reference validator: go cases are valid, the no-go case is invalid.
+    assert checker.is_valid(defect.arguments) is (defect.case_kind == "go")
+    answer = wire.call("tools/call", {"name": defect.tool, "arguments": defect.arguments})
+    if defect.key == "off_by_one_at_maximum":
+        assert tool_result(answer).get("isError") is True
+        below = {**defect.arguments, "nights": defect.arguments["nights"] - 1}
+        assert tool_result(wire.call("tools/call", {"name": defect.tool, "arguments": below})).get("isError") is not True
+    elif defect.key == "missing_validation_pattern":
+        assert tool_result(answer).get("isError") is not True
+    elif defect.key == "unicode_crash_leaks_traceback":
+        # JSON-RPC 2.0 section 5.1: -32603 Internal error, here with a Python traceback in data.
+        assert answer["error"]["code"] == -32603
+        assert "Traceback (most recent call last)" in answer["error"]["data"]["detail"]
+        ascii_name = {**defect.arguments, "vessel_name": "Tern"}
+        assert tool_result(wire.call("tools/call", {"name": defect.tool, "arguments": ascii_name})).get("isError") is not True
+    elif defect.key == "structured_output_breaks_schema":
+        output = Draft202012Validator(tools[defect.tool]["outputSchema"])
+        assert not output.is_valid(tool_result(answer)["structuredContent"])
+        plain = {k: v for k, v in defect.arguments.items() if k != "discount_code"}
+        assert output.is_valid(tool_result(wire.call("tools/call", {"name": defect.tool, "arguments": plain}))["structuredContent"])
+    else:
+        pytest.fail(f"no wire check for defect {defect.key!r}")
+
+
+def test_demo_next_release_differs_as_documented(tmp_path: Path) -> None:
+    with started(tmp_path, "-m", "feeler.demo", "--release", "next") as wire:
+        assert wire.handshake()["result"]["serverInfo"]["version"] == "1.5.0"
+        names = {t["name"] for t in tool_result(wire.call("tools/list"))["tools"]}
+    removed = {c.name for c in CHANGES if c.what == "tool removed"}
+    added = {c.name for c in CHANGES if c.what == "tool added"}
+    assert names == (CURRENT_TOOLS - removed) | added
+
+
+def test_demo_in_process_objects() -> None:
+    from mcp.server.mcpserver import MCPServer
+
+    from feeler.demo.server import next_server, server
+
+    assert isinstance(server, MCPServer) and isinstance(next_server, MCPServer)
+    assert (server.version, next_server.version) == ("1.4.0", "1.5.0")
+
+
+def test_demo_http_serves_initialize(tmp_path: Path) -> None:
+    with started(tmp_path, "-m", "feeler.demo", "--http", "--port", "0") as wire:
+        url = ready_url(wire)
+        response = post(url, {"jsonrpc": "2.0", "id": 1, "method": "initialize", "params": INIT_2025})
+        # MCP 2025-11-25 basic/transports (Streamable HTTP): a request POST is answered with JSON or SSE.
+        assert response.status_code == 200
+        assert rpc_body(response)["result"]["serverInfo"]["name"] == "saltmarsh-quay-harbour-office"
+        # MCP 2026-07-28 basic/transports/streamable-http: stateless POST with version and method headers.
+        modern = post(
+            url,
+            {"jsonrpc": "2.0", "id": 2, "method": "server/discover", "params": {"_meta": META_2026}},
+            {"MCP-Protocol-Version": "2026-07-28", "Mcp-Method": "server/discover"},
+        )
+        assert modern.status_code == 200 and "2026-07-28" in rpc_body(modern)["result"]["supportedVersions"]
+        assert wire.line(timeout=0.2) is None  # nothing on stdout in HTTP mode
+
+
+# --- clean reference --------------------------------------------------------------------------------
+
+
+def test_clean_reference_validates_and_conforms(tmp_path: Path) -> None:
+    with started(tmp_path, script("clean_reference")) as wire:
+        wire.handshake()
+        tools = {t["name"]: t for t in tool_result(wire.call("tools/list"))["tools"]}
+        assert set(tools) == {"convert_length", "word_count", "schedule_slot", "tag_items"}
+        go = {
+            "convert_length": {"value": 1000000, "unit_from": "nmi", "unit_to": "ft"},
+            "word_count": {"text": "Ωmega 🐟 \u0000 tide", "distinct": True},
+            "schedule_slot": {"day": "2026-02-28", "slot": "23:30", "attendees": [{"email": "é@x"}] * 5},
+            "tag_items": {"items": [{"id": 999, "label": "🐟" * 30}], "tag": {"name": "ab"}},
+        }
+        for name, arguments in go.items():
+            result = tool_result(wire.call("tools/call", {"name": name, "arguments": arguments}))
+            assert result.get("isError") is not True, (name, result)
+            # MCP 2025-06-18 server/tools (Output Schema): structured results conform; jsonschema as reference.
+            Draft202012Validator(tools[name]["outputSchema"]).validate(result["structuredContent"])
+            assert json.loads(result["content"][0]["text"]) == result["structuredContent"]
+        no_go = {
+            "convert_length": {"value": 1000000.5, "unit_from": "m", "unit_to": "ft"},
+            "word_count": {"text": "x", "extra": 1},
+            "schedule_slot": {"day": "2026-02-30", "slot": "23:30", "attendees": [{"email": "a@b"}]},
+            "tag_items": {"items": [], "tag": {"name": "Ab"}},
+        }
+        for name, arguments in no_go.items():
+            assert not Draft202012Validator(tools[name]["inputSchema"], format_checker=Draft202012Validator.FORMAT_CHECKER).is_valid(arguments)
+            # MCP 2025-11-25 server/tools (Error Handling): invalid arguments -> isError true.
+            assert tool_result(wire.call("tools/call", {"name": name, "arguments": arguments}))["isError"] is True
+
+
+# --- misbehaving servers ----------------------------------------------------------------------------
+
+
+def test_crashes_on_call(tmp_path: Path) -> None:
+    with started(tmp_path, script("crashes_on_call")) as wire:
+        wire.handshake()
+        assert tool_result(wire.call("tools/list"))["tools"]
+        wire.request("tools/call", {"name": "echo", "arguments": {"text": "hi"}})
+        assert wire.wait() == 3
+        assert "fatal:" in wire.stderr()
+
+
+def test_hangs_on_call(tmp_path: Path) -> None:
+    with started(tmp_path, script("hangs_on_call")) as wire:
+        wire.handshake()
+        wire.request("tools/call", {"name": "echo", "arguments": {"text": "hi"}})
+        assert wire.line(timeout=1.0) is None  # no answer to the call
+        # MCP 2025-11-25 basic/utilities/ping: still answers ping, so the process is alive, only the call hangs.
+        assert tool_result(wire.call("ping")) == {}
+        assert wire.proc.poll() is None
+
+
+def test_garbage_stdout(tmp_path: Path) -> None:
+    with started(tmp_path, script("garbage_stdout")) as wire:
+        wire.request("initialize", INIT_2025)
+        lines = [wire.line() for _ in range(4)]
+        assert None not in lines
+        parsed = []
+        for line in lines:
+            try:
+                parsed.append(json.loads(line))
+            except ValueError:
+                parsed.append(None)
+        # MCP 2025-11-25 basic/transports (stdio): the server MUST NOT write non-MCP data to stdout; this one does.
+        assert parsed.count(None) == 3
+        assert [m for m in parsed if m is not None][0]["result"]["protocolVersion"] == "2025-11-25"
+
+
+def test_wrong_id(tmp_path: Path) -> None:
+    with started(tmp_path, script("wrong_id")) as wire:
+        wire.handshake()
+        call_id = wire.request("tools/call", {"name": "echo", "arguments": {"text": "hi"}})
+        answer = wire.message()
+        # JSON-RPC 2.0 section 5: the response id MUST be the same as the request's; this one is not.
+        assert answer["id"] == call_id + 1000 and answer["result"]["content"][0]["text"] == "hi"
+
+
+def test_never_initializes(tmp_path: Path) -> None:
+    with started(tmp_path, script("never_initializes")) as wire:
+        wire.request("server/discover", {"_meta": META_2026})
+        wire.request("initialize", INIT_2025)
+        assert wire.line(timeout=1.0) is None
+        assert wire.proc.poll() is None
+
+
+def test_exits_at_start(tmp_path: Path) -> None:
+    with started(tmp_path, script("exits_at_start")) as wire:
+        assert wire.wait() == 2
+        assert "not found" in wire.stderr()
+
+
+def test_huge_answer(tmp_path: Path) -> None:
+    with started(tmp_path, script("huge_answer"), env={"FEELER_HUGE_MIB": "8"}) as wire:
+        wire.handshake()
+        wire.request("tools/call", {"name": "echo", "arguments": {"text": "hi"}})
+        line = wire.line(timeout=TIMEOUT)
+        assert line is not None and len(line) > 8 * (1 << 20)
+        assert len(json.loads(line)["result"]["content"][0]["text"]) == 8 * (1 << 20)
+
+
+def test_huge_answer_default_size_streams_64_mib(tmp_path: Path) -> None:
+    with started(tmp_path, script("huge_answer")) as wire:
+        wire.handshake()
+        wire.request("tools/call", {"name": "echo", "arguments": {"text": "hi"}})
+        line = wire.line(timeout=30.0, limit=8 << 20)
+        assert line is not None and len(line) >= 64 * (1 << 20)
+
+
+def test_slow_start(tmp_path: Path) -> None:
+    with started(tmp_path, script("slow_start")) as wire:
+        began = time.monotonic()
+        assert wire.handshake()["result"]["protocolVersion"] == "2025-11-25"
+        assert time.monotonic() - began >= 1.0  # common practice: a margin below the 1.5 s delay
+
+
+@pytest.mark.parametrize("roots", [False, True], ids=["no-roots-capability", "roots-capability"])
+def test_server_requests(tmp_path: Path, roots: bool) -> None:
+    with started(tmp_path, script("server_requests")) as wire:
+        capabilities = {"roots": {}} if roots else {}
+        wire.call("initialize", {**INIT_2025, "capabilities": capabilities})
+        wire.send({"jsonrpc": "2.0", "method": "notifications/initialized"})
+        call_id = wire.request("tools/call", {"name": "echo", "arguments": {"text": "x"}, "_meta": {"progressToken": "p-1"}})
+        seen: dict[str, dict[str, Any]] = {}
+        while "answer" not in seen:
+            message = wire.message()
+            if message.get("method") in ("ping", "roots/list"):
+                seen[message["method"]] = message
+                if message["method"] == "ping":
+                    wire.send({"jsonrpc": "2.0", "id": message["id"], "result": {}})
+                elif roots:
+                    wire.send({"jsonrpc": "2.0", "id": message["id"], "result": {"roots": []}})
+                else:
+                    # MCP 2025-11-25 client/roots: a client without roots answers -32601.
+                    wire.send({"jsonrpc": "2.0", "id": message["id"], "error": {"code": -32601, "message": "Method not found"}})
+            elif "method" in message:
+                seen[message["method"]] = message
+            elif message.get("id") == call_id:
+                seen["answer"] = message
+        assert {"ping", "roots/list", "notifications/progress", "notifications/message"} <= set(seen)
+        assert seen["notifications/progress"]["params"]["progressToken"] == "p-1"
+        assert seen["answer"]["result"]["structuredContent"]["as_expected"] is True
+
+
+def test_server_requests_notices_a_wrong_answer(tmp_path: Path) -> None:
+    with started(tmp_path, script("server_requests")) as wire:
+        wire.handshake()
+        call_id = wire.request("tools/call", {"name": "echo", "arguments": {"text": "x"}})
+        while True:
+            message = wire.message()
+            if message.get("method") in ("ping", "roots/list"):
+                wire.send({"jsonrpc": "2.0", "id": message["id"], "result": {"unexpected": True}})
+            elif message.get("id") == call_id:
+                break
+        assert message["result"]["structuredContent"]["as_expected"] is False
+
+
+def test_modern_only(tmp_path: Path) -> None:
+    with started(tmp_path, script("modern_only")) as wire:
+        # MCP 2026-07-28 basic/versioning: modern-only servers SHOULD name their versions to a legacy initialize.
+        refused = wire.call("initialize", INIT_2025)
+        assert refused["error"]["code"] == -32022 and refused["error"]["data"]["supported"] == ["2026-07-28"]
+        discover = tool_result(wire.call("server/discover", {"_meta": META_2026}))
+        assert discover["supportedVersions"] == ["2026-07-28"] and discover["resultType"] == "complete"
+        # MCP 2026-07-28 basic/index: a request without the required _meta keys gets -32602.
+        assert wire.call("tools/list")["error"]["code"] == -32602
+        assert tool_result(wire.call("tools/list", {"_meta": META_2026}))["cacheScope"] == "public"
+        old = {**META_2026, "io.modelcontextprotocol/protocolVersion": "2025-11-25"}
+        assert wire.call("tools/list", {"_meta": old})["error"]["code"] == -32022
+
+
+def test_legacy_only(tmp_path: Path) -> None:
+    with started(tmp_path, script("legacy_only")) as wire:
+        # MCP 2026-07-28 basic/transports/stdio: legacy servers answer server/discover with an error (here -32601).
+        assert wire.call("server/discover", {"_meta": META_2026})["error"]["code"] == -32601
+        assert wire.handshake("2024-11-05")["result"]["protocolVersion"] == "2024-11-05"
+        # MCP 2025-11-25 basic/lifecycle: an unknown version gets a counter-offer, not an error.
+        assert wire.call("initialize", {**INIT_2025, "protocolVersion": "2099-01-01"})["result"]["protocolVersion"] == "2025-11-25"
+
+
+def test_bearer_http(tmp_path: Path) -> None:
+    token = "smoke-" + os.urandom(8).hex()
+    with started(tmp_path, script("bearer_http"), "--port", "0", env={"FEELER_TEST_TOKEN": token}) as wire:
+        url = ready_url(wire)
+        body = {"jsonrpc": "2.0", "id": 1, "method": "initialize", "params": INIT_2025}
+        # MCP 2025-11-25 basic/authorization and RFC 6750 section 3: missing or wrong token -> 401 + WWW-Authenticate: Bearer.
+        for headers in ({}, {"Authorization": "Bearer wrong"}):
+            refused = post(url, body, headers)
+            assert refused.status_code == 401 and refused.headers["www-authenticate"].startswith("Bearer")
+        accepted = post(url, body, {"Authorization": f"Bearer {token}"})
+        assert accepted.status_code == 200 and rpc_body(accepted)["result"]["serverInfo"]["name"] == "bearer-http"
+
+
+def test_bearer_http_refuses_to_start_without_token() -> None:
+    env = {k: v for k, v in os.environ.items() if k != "FEELER_TEST_TOKEN"}
+    proc = subprocess.Popen([PY, script("bearer_http")], env=env, stdout=subprocess.PIPE, stderr=subprocess.PIPE, start_new_session=True)
+    try:
+        _, err = proc.communicate(timeout=TIMEOUT)
+        assert proc.returncode == 2 and b"FEELER_TEST_TOKEN" in err
+    finally:
+        try:
+            os.killpg(proc.pid, signal.SIGKILL)
+        except ProcessLookupError:
+            pass
