@@ -137,6 +137,28 @@ def go_accepted(ctx: CallContext) -> Iterator[Problem]:
         yield Problem(f"valid arguments{_where(ctx)} got isError: {text}", error_class="is-error")
 
 
+#: Keywords whose boundary go cases sit exactly on a promised limit (where off-by-one defects live).
+_BOUND_KEYWORDS = frozenset({
+    "minimum", "maximum", "exclusiveMinimum", "exclusiveMaximum", "multipleOf",
+    "minLength", "maxLength", "minItems", "maxItems", "minProperties", "maxProperties",
+})
+
+
+@register("bounds_honoured", applies_to=("go",), reference="JSON Schema 2020-12 validation sections 6.2-6.4")
+def bounds_honoured(ctx: CallContext) -> Iterator[Problem]:
+    """A value exactly on a bound the schema allows (minimum, maxLength...) is not refused with ``isError``."""
+    ex = ctx.exchange
+    case = ctx.case
+    if ex is None or case is None or getattr(case, "origin", None) != "boundary" or ctx.keyword not in _BOUND_KEYWORDS:
+        return
+    if ex.is_error_result:
+        text = " ".join(_texts(ex.result))[:160]
+        yield Problem(
+            f"the value on the bound{_where(ctx)} is allowed by the schema but the tool refused it: {text}",
+            error_class=f"bound:{ctx.keyword}",
+        )
+
+
 @register("nogo_rejected", applies_to=("no-go",), reference="MCP 2025-11-25 server/tools (error handling); JSON-RPC 2.0 section 5.1")
 def nogo_rejected(ctx: CallContext) -> Iterator[Problem]:
     """Arguments the input schema forbids are rejected cleanly: -32602 or ``isError: true``, never success or -32603."""

@@ -38,8 +38,13 @@ class Finding:
 
     @property
     def signature(self) -> str:
-        """Same check, tool, keyword and path, and error class: the same finding."""
-        return "|".join(str(x) for x in (self.check, self.tool, self.keyword, self.path, self.error_class))
+        """Same check, tool, keyword and path, and error class: the same finding.
+
+        For a go case the keyword and path only say which boundary was exercised, not what is wrong,
+        so they are left out: one defect hit by several go cases is one finding.
+        """
+        keyword, path = (None, None) if self.kind == "go" else (self.keyword, self.path)
+        return "|".join(str(x) for x in (self.check, self.tool, keyword, path, self.error_class))
 
     @property
     def short_id(self) -> str:

@@ -72,7 +72,7 @@ class _Walk:
             out: list[Any] = []
             makers = [kit.minimal, kit.full]
             if "$ref" not in repr(other) and isinstance(other, dict):
-                makers.insert(0, lambda root: kit.minimal({"allOf": [root, other]}))
+                makers.insert(0, lambda root: kit.minimal({"allOf": [root, other]}, draw=False))
             for make in makers:
                 try:
                     value = make(self.root(side))

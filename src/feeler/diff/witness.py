@@ -188,11 +188,14 @@ class Kit:
         return schema
 
     # -- minimal instances ----------------------------------------------------------------------
-    def minimal(self, schema: Any, depth: int = 0) -> Any:
-        """A small valid instance of *schema*, checked with the reference validator; NoInstance if none."""
+    def minimal(self, schema: Any, depth: int = 0, *, draw: bool = True) -> Any:
+        """A small valid instance of *schema*, checked with the reference validator; NoInstance if none.
+
+        :param draw: fall back to hypothesis draws when construction fails (slower; off for best-effort calls).
+        """
         value = self._build(schema, depth, full=False)
         if not self.valid(value, schema):
-            for alt in self.draws(schema, 10):
+            for alt in self.draws(schema, 10) if draw else ():
                 return alt
             raise NoInstance(f"built {value!r} but it is not valid")
         return value

@@ -14,7 +14,7 @@ import math
 from collections.abc import Callable, Iterator
 from typing import Any
 
-from hypothesis import HealthCheck, Phase, find, given, settings
+from hypothesis import HealthCheck, Phase, find, given, reject, settings
 from hypothesis import seed as hypothesis_seed
 from hypothesis import strategies as st
 from hypothesis.errors import NoSuchExample, Unsatisfiable
@@ -31,6 +31,7 @@ _KNOWN = {
     "type", "const", "enum", "anyOf", "oneOf", "properties", "required", "additionalProperties",
     "minimum", "maximum", "exclusiveMinimum", "exclusiveMaximum", "multipleOf",
     "minLength", "maxLength", "pattern", "format", "items", "prefixItems", "minItems", "maxItems", "uniqueItems",
+    "dependentRequired", "dependencies", "minProperties", "maxProperties", "propertyNames", "patternProperties",
     "title", "description", "default", "examples", "$comment", "deprecated", "readOnly", "writeOnly",
     "$schema", "$id", "$anchor", "$defs", "definitions", "contentMediaType", "contentEncoding",
 }  # fmt: skip
@@ -53,7 +54,18 @@ def strategy_for(ts: ToolSchema, node: Any) -> st.SearchStrategy[Any]:
 def _fallback(ts: ToolSchema, node: Any) -> st.SearchStrategy[Any]:
     from hypothesis_jsonschema import from_schema
 
-    return from_schema(ts.inlined(node)).filter(lambda v: ts.valid_under(node, v))
+    inner = from_schema(ts.inlined(node))
+
+    @st.composite
+    def guarded(draw: Any) -> Any:
+        try:
+            return draw(inner)
+        except (AssertionError, AttributeError, TypeError, ValueError, KeyError):
+            # hypothesis-jsonschema cannot handle this node (it asserts on some draft-07 mixes):
+            # reject the draw; the oracle filter never sees an unchecked value.
+            reject()
+
+    return guarded().filter(lambda v: ts.valid_under(node, v))
 
 
 def _strategy(ts: ToolSchema, node: Any) -> st.SearchStrategy[Any]:
@@ -157,19 +169,49 @@ def _arrays(ts: ToolSchema, node: dict) -> st.SearchStrategy[list]:
 
 
 def objects(ts: ToolSchema, node: dict) -> st.SearchStrategy[dict]:
-    """Objects with the ``required`` properties and any subset of the optional ones."""
+    """Objects with the ``required`` properties, any subset of the optional ones, and a few extra keys
+    where ``additionalProperties``/``patternProperties`` describe them; dependencies are filled in."""
     props = node.get("properties", {})
     required = list(node.get("required", []))
     ap = node.get("additionalProperties", True)
-    extra = {} if ap is True else ap
+    patterns = node.get("patternProperties") or {}
+    names = node.get("propertyNames")
+    depends = {k: v for k, v in {**(node.get("dependencies") or {}), **(node.get("dependentRequired") or {})}.items()
+               if isinstance(v, list)}  # fmt: skip
 
     def schema_of(name: str) -> Any:
-        return props[name] if name in props else extra
+        if name in props:
+            return props[name]
+        return {} if ap is True else ap
 
-    return st.fixed_dictionaries(
+    fixed = st.fixed_dictionaries(
         {name: strategy_for(ts, schema_of(name)) for name in required},
         optional={name: strategy_for(ts, sub) for name, sub in props.items() if name not in required},
     )
+    extras: list[st.SearchStrategy[dict]] = []
+    ascii_chars = st.characters(min_codepoint=32, max_codepoint=126)
+    for pattern, sub in patterns.items():
+        extras.append(st.dictionaries(st.from_regex(pattern, alphabet=ascii_chars), strategy_for(ts, sub), max_size=2))
+    if isinstance(ap, dict) or (ap is True and names is not None):
+        keys = strategy_for(ts, names).filter(lambda k: isinstance(k, str)) if names is not None else st.text(
+            "abcdefghijklmnopqrstuvwxyz_", min_size=1, max_size=8)
+        extras.append(st.dictionaries(keys, strategy_for(ts, {} if ap is True else ap), max_size=3))
+
+    @st.composite
+    def build(draw: Any) -> dict:
+        out = draw(fixed)
+        for strategy in extras:
+            for key, value in draw(strategy).items():
+                out.setdefault(key, value)
+        for trigger, needs in depends.items():
+            if trigger in out:
+                for name in needs:
+                    if name not in out:
+                        out[name] = draw(strategy_for(ts, schema_of(name)))
+        return out
+
+    low, high = node.get("minProperties", 0), node.get("maxProperties")
+    return build().filter(lambda v: len(v) >= low and (high is None or len(v) <= high))
 
 
 def _json_values() -> st.SearchStrategy[Any]:
