@@ -83,7 +83,8 @@ DEFECTS: tuple[Defect, ...] = (
             "kind": "sail",
             "owner": {"name": "Ada Quill", "email": "ada@example.org"},
         },
-        behaviour="any character outside Latin-1 in vessel_name or home_port raises UnicodeEncodeError; the "
+        behaviour="any character outside Latin-1 (after upper-casing, so also e.g. \"ÿ\") in vessel_name or "
+        "home_port raises UnicodeEncodeError; the "
         "answer is a JSON-RPC -32603 error whose message names the exception and whose data.detail holds "
         "the Python traceback with absolute file paths.",
         expected_check="go case accepted (-32603 on a go case) and no internals leaked in errors (stack trace, paths)",

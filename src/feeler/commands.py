@@ -79,11 +79,28 @@ def catalog(output: str | None, **kwargs: Any) -> int:
 
 
 @click.command("demo")
-def demo() -> int:
-    """Run feeler against its bundled demo server (served over stdio by this Python)."""
+@click.option("--go-examples", type=click.IntRange(min=0), default=10, show_default=True, help="Drawn go cases per tool.")
+@click.option("--replay-dir", default=".feeler/replays", show_default=True, help="Where replay files go.")
+def demo(go_examples: int, replay_dir: str) -> int:
+    """Check feeler's bundled demo server (a harbour office with a few defects), served over stdio.
+
+    Shows what feeler does on a server you do not have to write: the demo's catalog, then every
+    finding. Exit code 1 means findings, as with `feeler check`.
+    """
+    from feeler.check.report import report_text
+    from feeler.check.runner import RunOptions, Runner
     from feeler.target import Target
 
     target = Target(kind="stdio", command=(sys.executable, "-m", "feeler.demo"))
-    cat = capture_catalog(target)
-    click.echo(summary(cat))
-    return 0
+    progress = (lambda line: click.echo(line, err=True)) if sys.stderr.isatty() else None
+    runner = Runner(target, RunOptions(go_examples=go_examples, replay_dir=replay_dir), progress=progress)
+    report = runner.run()
+    assert report.catalog is not None
+    click.echo(summary(report.catalog))
+    click.echo("")
+    click.echo(report_text(report), nl=False)
+    click.echo(
+        "\nThe demo carries planted defects on purpose; each finding above comes with a replay file.\n"
+        "Point feeler at your own server: feeler check -- python your_server.py"
+    )
+    return report.exit_code()

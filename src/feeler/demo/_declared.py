@@ -18,6 +18,7 @@ from mcp.server.mcpserver.tools import Tool
 from mcp.server.mcpserver.utilities.func_metadata import ArgModelBase, FuncMetadata
 from mcp.shared.exceptions import MCPError
 from mcp_types import CallToolResult, TextContent, ToolAnnotations
+from pydantic import PrivateAttr
 
 __all__ = ["DeclaredTool", "declared_tool"]
 
@@ -32,8 +33,13 @@ class DeclaredTool(Tool):
     returns the text to send.
     """
 
+    _checker: Any = PrivateAttr(default=None)
+
     async def run(self, arguments: dict[str, Any], context: Any, convert_result: bool = False) -> Any:
-        errors = sorted(_validator(self.parameters).iter_errors(arguments), key=lambda e: list(e.path))
+        if self._checker is None:
+            # Formats are asserted, not just annotated: a date or an address the schema names is checked.
+            self._checker = Draft202012Validator(self.parameters, format_checker=Draft202012Validator.FORMAT_CHECKER)
+        errors = sorted(self._checker.iter_errors(arguments), key=lambda e: [str(p) for p in e.path])
         if errors:
             # A tool execution error the caller can act on (MCP 2025-11-25 server/tools, "Error Handling").
             detail = "; ".join(f"{_where(e.absolute_path)}: {e.message}" for e in errors[:5])
@@ -87,17 +93,6 @@ def declared_tool(
         is_async=False,
         annotations=annotations,
     )
-
-
-_VALIDATORS: dict[int, Draft202012Validator] = {}
-
-
-def _validator(schema: JsonObject) -> Draft202012Validator:
-    # Formats are asserted, not just annotated: a date or an address the schema names is checked.
-    key = id(schema)
-    if key not in _VALIDATORS:
-        _VALIDATORS[key] = Draft202012Validator(schema, format_checker=Draft202012Validator.FORMAT_CHECKER)
-    return _VALIDATORS[key]
 
 
 def _where(path: Any) -> str:

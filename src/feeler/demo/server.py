@@ -51,7 +51,7 @@ _SERVICE_CENTS = {"fresh_water": 400, "shore_power": 650, "waste_pumpout": 900, 
 
 
 def _reference(*parts: object) -> str:
-    digest = hashlib.sha256(json.dumps(parts, ensure_ascii=False, sort_keys=True).encode("utf-8")).hexdigest()
+    digest = hashlib.sha256(json.dumps(parts, sort_keys=True).encode("ascii")).hexdigest()
     return f"BK-{int(digest[:8], 16) % 1_000_000:06d}"
 
 

@@ -140,24 +140,119 @@ def _types_of(schema: Mapping[str, Any]) -> list[str]:
     return ["null", "boolean", "integer", "string", "object", "array"]
 
 
+try:  # Python 3.11+: the parser moved; sre_parse still imports but warns
+    import re._parser as _sre  # type: ignore[import-not-found]
+except ImportError:  # pragma: no cover - Python 3.10
+    import sre_parse as _sre  # type: ignore[no-redef]
+
+
+def _regex_walk(items: Any, stretch: int) -> str:
+    """Build a short string from a parsed regex: first branch, first class member, minimal repeats.
+
+    *stretch* extra repetitions go to each repeat (used to meet a ``minLength``).
+    """
+    out = []
+    for op, arg in items:
+        name = str(op)
+        if name == "LITERAL":
+            out.append(chr(arg))
+        elif name == "NOT_LITERAL":
+            out.append("a" if arg != ord("a") else "b")
+        elif name == "ANY":
+            out.append("a")
+        elif name == "IN":
+            out.append(_class_member(arg))
+        elif name in ("MAX_REPEAT", "MIN_REPEAT", "POSSESSIVE_REPEAT"):
+            lo, hi, sub = arg
+            n = lo + stretch if hi is _sre.MAXREPEAT else min(hi, lo + stretch)
+            out.append(_regex_walk(sub, stretch) * n)
+        elif name == "SUBPATTERN":
+            out.append(_regex_walk(arg[-1], stretch))
+        elif name == "BRANCH":
+            out.append(_regex_walk(arg[1][0], stretch))
+        elif name in ("AT", "ASSERT", "ASSERT_NOT"):
+            continue
+        elif name == "CATEGORY":
+            out.append(_category(arg))
+        else:
+            raise NoInstance(f"regex construct {name} is beyond the builder")
+    return "".join(out)
+
+
+def _category(cat: Any) -> str:
+    name = str(cat)
+    if "NOT" in name:
+        return "-" if "DIGIT" in name else "0" if "WORD" in name else "a"
+    return {"CATEGORY_DIGIT": "0", "CATEGORY_WORD": "a", "CATEGORY_SPACE": " "}.get(name, "a")
+
+
+def _class_member(items: Any) -> str:
+    negate = False
+    for op, arg in items:
+        name = str(op)
+        if name == "NEGATE":
+            negate = True
+            continue
+        if negate:
+            break
+        if name == "LITERAL":
+            return chr(arg)
+        if name == "RANGE":
+            return chr(arg[0])
+        if name == "CATEGORY":
+            return _category(arg)
+    if negate:
+        banned = {chr(a) for op, a in items if str(op) == "LITERAL"}
+        for c in "a0-_ ":
+            if c not in banned:
+                return c
+    return "a"
+
+
 @functools.lru_cache(maxsize=1024)
 def _regex_example(pattern: str, min_len: int, max_len: int | None) -> str:
-    """The simplest string matching *pattern* within the length bounds (hypothesis ``find`` shrinks it)."""
-    from hypothesis import find, settings
-    from hypothesis import strategies as st
+    """A short string matching *pattern* (searched, as JSON Schema 2020-12 Validation 6.3.3 says) within
+    the length bounds: built from the parsed regex, else drawn by hypothesis ``from_regex``."""
+    import re
 
     def ok(s: str) -> bool:
-        return len(s) >= min_len and (max_len is None or len(s) <= max_len)
+        return re.search(pattern, s) is not None and len(s) >= min_len and (max_len is None or len(s) <= max_len)
+
+    try:
+        parsed = _sre.parse(pattern)
+        for stretch in (0, 1, 2, 4, 8, 16):
+            candidate = _regex_walk(list(parsed), stretch)
+            if ok(candidate):
+                return candidate
+    except (NoInstance, re.error, TypeError, ValueError, OverflowError):
+        pass
+    from hypothesis import strategies as st
+
+    for value in _draw_strategy(st.from_regex(pattern, fullmatch=False), 30):
+        if isinstance(value, str) and ok(value):
+            return value
+    raise NoInstance(f"no string matches pattern {pattern!r} within the length bounds")
+
+
+def _draw_strategy(strategy: Any, n: int) -> list[Any]:
+    """Up to *n* derandomized draws from *strategy*, no shrinking (fast, and the same on every run)."""
+    from hypothesis import HealthCheck, Phase, given, settings
+
+    out: list[Any] = []
+
+    @settings(max_examples=n, database=None, derandomize=True, phases=[Phase.generate], deadline=None,
+              suppress_health_check=list(HealthCheck))
+    @given(strategy)
+    def collect(value: Any) -> None:
+        out.append(value)
 
     with warnings.catch_warnings():
         warnings.simplefilter("ignore")
         try:
-            return find(
-                st.from_regex(pattern, fullmatch=False), ok, settings=settings(max_examples=200, database=None,
-                                                                               derandomize=True)
-            )
-        except Exception as exc:  # NoSuchExample, re.error: the schema is beyond us
-            raise NoInstance(f"no string matches pattern {pattern!r}") from exc
+            collect()
+        except Exception:  # a strategy that cannot draw: no samples, not a crash
+            pass
+    return out
 
 
 class Kit:
@@ -397,25 +492,10 @@ assert set(_BUILDERS) == {"object", "array", "string", "number", "integer", "boo
 
 @functools.lru_cache(maxsize=256)
 def _draws_cached(key: str, n: int) -> tuple[str, ...]:
-    from hypothesis import HealthCheck, Phase, given, settings
     from hypothesis_jsonschema import from_schema
 
-    schema = json.loads(key)
-    out: list[str] = []
-
-    @settings(max_examples=n, database=None, derandomize=True, phases=[Phase.generate], deadline=None,
-              suppress_health_check=list(HealthCheck))
-    @given(from_schema(schema))
-    def collect(value: Any) -> None:
-        out.append(json.dumps(value, sort_keys=True))
-
-    with warnings.catch_warnings():
-        warnings.simplefilter("ignore")
-        try:
-            collect()
-        except Exception:  # a schema hypothesis-jsonschema cannot draw from: no samples, not a crash
-            pass
-    return tuple(dict.fromkeys(out))
+    values = _draw_strategy(from_schema(json.loads(key)), n)
+    return tuple(dict.fromkeys(json.dumps(v, sort_keys=True) for v in values))
 
 
 def draws(schema: Any, n: int) -> list[Any]:

@@ -227,7 +227,7 @@ def _array(ts: ToolSchema, node: dict, full: bool) -> list:
     low = node.get("minItems", 0)
     if "contains" in node:
         low = max(low, node.get("minContains", 1))
-    count = max(low, 1 if full else 0)
+    count = max(low, (max(1, len(prefix)) if full else 0))
     if "maxItems" in node:
         count = min(count, node["maxItems"])
     out = [build(ts, sub, full) for sub in prefix[:count]]

@@ -232,7 +232,7 @@ assert set(_TYPE_STRATEGIES) == set(TYPES)
 
 
 def searched_example(ts: ToolSchema, node: Any) -> Any:
-    """The shrunk (smallest) value hypothesis finds for *node*; deterministic (derandomized, no database).
+    """The first value hypothesis finds for *node*; deterministic (derandomized, no database).
 
     :raises Unbuildable: nothing was found within the search budget.
     """
@@ -240,7 +240,10 @@ def searched_example(ts: ToolSchema, node: Any) -> Any:
         return find(
             strategy_for(ts, node),
             lambda _: True,
-            settings=settings(database=None, derandomize=True, max_examples=200, suppress_health_check=_QUIET, deadline=None),
+            # No shrink phase: shrinking a rare find can take seconds; the generate phase alone is
+            # still deterministic under derandomize and already tends to small values.
+            settings=settings(database=None, derandomize=True, max_examples=200, phases=[Phase.generate],
+                              suppress_health_check=_QUIET, deadline=None),  # fmt: skip
         )
     except (NoSuchExample, Unsatisfiable) as exc:
         raise Unbuildable from exc

@@ -19,7 +19,7 @@ from hypothesis import strategies as st
 
 from feeler._json import canonical_dumps, json_path
 from feeler.errors import SchemaProblem
-from feeler.generate._build import Unbuildable, example
+from feeler.generate._build import Unbuildable, build, example
 from feeler.generate._schema import ToolSchema, compile_schema
 from feeler.generate._strategies import draws, strategy_for
 from feeler.generate._walk import Site, sites
@@ -116,13 +116,17 @@ def base_instances(ts: ToolSchema) -> list[Any]:
     """
     out: list[Any] = []
     found = []
-    for full in (True, False):
-        try:
-            value = example(ts, ts.schema, full)
-        except Unbuildable:
-            continue
+    try:
+        # The fullest by construction only: a searched value would not be "fullest" anyway.
+        value = build(ts, ts.schema, full=True)
         if ts.is_valid(value):
-            found.append((full, value))
+            found.append((True, value))
+    except Unbuildable:
+        pass
+    try:
+        found.append((False, example(ts, ts.schema)))
+    except Unbuildable:
+        pass
     if found and not found[0][0]:
         # The fullest by construction was refused: grow the smallest one addition at a time instead.
         found.insert(0, (True, _filled(ts, found[0][1], rounds=32)))
@@ -144,7 +148,7 @@ def _sites(ts: ToolSchema, bases: list[Any]) -> Iterator[Site]:
     done: set[tuple[Any, ...]] = set()
     for base in bases:
         for site in sites(ts, base):
-            key = (site.vpath, site.path, site.key_mode)
+            key = (site.vpath, site.pointer, site.path, site.key_mode)
             if key not in done:
                 done.add(key)
                 yield site

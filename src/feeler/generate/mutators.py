@@ -343,16 +343,27 @@ def contains(ts: ToolSchema, site: Site, wanted: Any) -> Iterator[Any]:
             yield [sample]
 
 
+def _past_prefix(ts: ToolSchema, site: Site, prefix: list) -> Iterator[Any]:
+    if not isinstance(site.value, list):
+        return
+    value = list(site.value)
+    try:
+        value += [example(ts, sub) for sub in prefix[len(value):]]
+    except Unbuildable:
+        return
+    yield value + [None]
+
+
 def items(ts: ToolSchema, site: Site, spec: Any) -> Iterator[Any]:
-    """An extra item where ``items`` is false (2020-12, after ``prefixItems``)."""
-    if spec is False and isinstance(site.value, list):
-        yield site.value + [None]
+    """An extra item past ``prefixItems`` where ``items`` is false (2020-12)."""
+    if spec is False:
+        yield from _past_prefix(ts, site, site.node.get("prefixItems") or [])
 
 
 def additionalItems(ts: ToolSchema, site: Site, spec: Any) -> Iterator[Any]:
-    """An extra item where ``additionalItems`` is false (draft-07 tuple form)."""
-    if spec is False and isinstance(site.value, list):
-        yield site.value + [None]
+    """An extra item past the tuple where ``additionalItems`` is false (draft-07 array form of ``items``)."""
+    if spec is False and isinstance(site.node.get("items"), list):
+        yield from _past_prefix(ts, site, site.node["items"])
 
 
 #: keyword -> mutator. Named like the keyword, with a trailing "_" where that is a Python name.
