@@ -8,6 +8,7 @@ from __future__ import annotations
 
 import json
 import re
+import typing
 from collections.abc import Iterator
 from typing import Any
 
@@ -97,8 +98,16 @@ def _shape_errors(method: str, revision: str, result: Any) -> list[str]:
     from mcp_types import methods  # the reference for message shapes, per revision
     from pydantic import ValidationError
 
+    surface = methods.SERVER_RESULTS.get((method, revision))
+    members = typing.get_args(surface) if surface is not None else ()
+    if members and not (isinstance(result, dict) and result.get("resultType") == "input_required"):
+        # mcp-types' 2026 surface is CallToolResult | InputRequiredResult, and InputRequiredResult (all fields
+        # optional, extra ignored) takes any object: a final result must match the non-interim members alone.
+        final = [m for m in members if getattr(m, "__name__", "") != "InputRequiredResult"]
+        if final and len(final) < len(members):
+            surface = final[0] if len(final) == 1 else typing.Union[tuple(final)]  # noqa: UP007
     try:
-        methods.validate_server_result(method, revision, result)
+        methods.validate_server_result(method, revision, result, surface={(method, revision): surface} if surface is not None else methods.SERVER_RESULTS)
     except ValidationError as exc:
         return [f"{'.'.join(str(p) for p in e['loc'])}: {e['msg']}" for e in exc.errors()[:3]]
     except (KeyError, ValueError):

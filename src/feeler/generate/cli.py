@@ -65,9 +65,8 @@ def cases(schema_file: str, seed: int, draws: int, kind: str) -> None:
             found += nogo_cases(ts, tally=tally)
     except SchemaProblem as exc:
         raise click.UsageError(f"{schema_file}: {exc} [{exc.reason}]") from exc
-    out = click.get_text_stream("stdout")
     for case in found:
-        out.write(json.dumps(case.as_json(), ensure_ascii=False, sort_keys=False) + "\n")
+        click.echo(json.dumps(case.as_json(), ensure_ascii=False))
     click.echo(
         f"{sum(c.kind == 'go' for c in found)} go, {sum(c.kind == 'no-go' for c in found)} no-go cases; "
         f"refuted by the oracle and dropped: {tally.refuted_go} go, {tally.refuted_nogo} no-go",

@@ -318,10 +318,10 @@ class PingError(Clean):
 
 
 class Slow(Clean):
-    """Every tools/call takes 0.3 s."""
+    """Every tools/call takes 0.12 s."""
 
     def on_tools_call(self, params: dict[str, Any], request_id: Any) -> dict[str, Any]:
-        time.sleep(0.3)
+        time.sleep(0.12)
         return self.call_echo(params)
 
 
@@ -367,7 +367,27 @@ class BadName(Clean):
 # -- protocol probes --------------------------------------------------------------------------
 
 
-class AnswersNotifications(Clean):
+class StrictProbes(Clean):
+    """Answers malformed requests as JSON-RPC 2.0 and MCP prescribe: the clean side of probe_answer.
+
+    A null id is an invalid request (MCP basic/index: ids MUST NOT be null; JSON-RPC 2.0 section 5.1: -32600),
+    and ``arguments`` that is not an object is a malformed tools/call (MCP 2025-11-25 server/tools: -32602).
+    """
+
+    def handle(self, message: dict[str, Any]) -> None:
+        if "method" in message and "id" in message and message["id"] is None:
+            self.fail(None, -32600, "Invalid Request: the id must not be null")
+            return
+        super().handle(message)
+
+    def on_tools_call(self, params: dict[str, Any], request_id: Any) -> dict[str, Any]:
+        if "arguments" in params and not isinstance(params["arguments"], dict):
+            raise RpcError(INVALID_PARAMS, "Invalid params: arguments must be an object")
+        return self.call_echo(params)
+
+
+
+class AnswersNotifications(StrictProbes):
     """Answers notifications as if they were requests (JSON-RPC 2.0 section 4.1: MUST NOT reply)."""
 
     def on_notification(self, method: str, params: dict[str, Any]) -> None:
@@ -375,7 +395,7 @@ class AnswersNotifications(Clean):
             self.send({"jsonrpc": "2.0", "id": None, "result": {}})
 
 
-class WrongMethodCode(Clean):
+class WrongMethodCode(StrictProbes):
     """Unknown methods get -32600 instead of -32601 (JSON-RPC 2.0 section 5.1)."""
 
     def dispatch(self, method: str, params: dict[str, Any], request_id: Any) -> dict[str, Any]:
@@ -417,6 +437,7 @@ FAULTS: dict[str, type[WireServer]] = {
     "array-root": ArrayRoot,
     "invalid-schema": InvalidSchema,
     "bad-name": BadName,
+    "strict-probes": StrictProbes,
     "answers-notifications": AnswersNotifications,
     "wrong-method-code": WrongMethodCode,
 }

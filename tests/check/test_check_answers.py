@@ -1,0 +1,125 @@
+"""no_leaks, output_schema, output_mirrored, server_alive and latency against real servers.
+
+References: MCP 2025-11-25 server/tools "Security Considerations" (servers MUST sanitize tool outputs; no
+internals in errors — with OWASP error-handling guidance as common practice); MCP 2025-06-18 server/tools
+"Output Schema" (structuredContent MUST conform; a text block SHOULD carry the serialized JSON), validated
+with ``jsonschema`` (JSON Schema 2020-12); MCP 2025-11-25 basic/utilities/ping (ping answered promptly
+with an empty result); latency budgets are common practice.
+"""
+
+from __future__ import annotations
+
+import pytest
+from check_helpers import SERVERS, PY, classes, faulty, run_checks, sig
+
+from feeler.check.registry import CheckSettings
+from feeler.target import Target
+
+# -- no_leaks ------------------------------------------------------------------------------------
+
+
+def test_no_leaks_clean_server() -> None:
+    report = run_checks(faulty("clean"), ["no_leaks"], go_examples=0)
+    assert report.tools["echo"].nogo_rejected_is_error > 0  # error texts were looked at
+    assert not list(report.findings)
+
+
+@pytest.mark.parametrize(
+    ("kind", "error_class"),
+    [
+        ("python", "python-traceback"),
+        ("javascript", "javascript-stack"),
+        ("java", "java-stack"),
+        ("go", "go-panic"),
+        ("path", "absolute-path"),
+    ],
+)
+def test_no_leaks_finds_internals(kind: str, error_class: str) -> None:
+    report = run_checks(faulty("leaky", kind), ["no_leaks"], go_examples=0)
+    assert error_class in classes(report, "no_leaks")
+    assert all(f.kind == "no-go" for f in report.findings)
+
+
+def test_no_leaks_finds_a_secret_from_the_environment() -> None:
+    # The server reads the secret from its environment; feeler knows it because the variable name looks secret.
+    secret = "sk-feeler-test-0123456789"
+    report = run_checks(faulty("leaky", "secret", env={"FEELER_TEST_API_KEY": secret}), ["no_leaks"], go_examples=0)
+    assert classes(report, "no_leaks") == {"secret"}
+    assert all(secret not in f.message for f in report.findings)  # the finding itself must not repeat it
+
+
+# -- output_schema / output_mirrored ---------------------------------------------------------------
+
+
+@pytest.mark.parametrize(
+    ("fault", "error_class"),
+    [
+        ("output-missing", "missing"),  # outputSchema declared, no structuredContent
+        ("output-invalid", "invalid:type"),  # "length" is a string where the schema says integer
+    ],
+)
+def test_output_schema_finds_broken_structured_content(fault: str, error_class: str) -> None:
+    report = run_checks(faulty(fault), ["output_schema"], go_examples=2)
+    assert [sig(f) for f in report.findings] == [("output_schema", "shout", None, None, error_class)]
+
+
+def test_output_schema_clean_servers() -> None:
+    report = run_checks(faulty("output-ok"), ["output_schema", "output_mirrored"], go_examples=2)
+    assert report.tools["shout"].go_accepted > 0
+    assert not list(report.findings)
+
+
+def test_output_schema_clean_sdk_server() -> None:
+    # The SDK reference server: four tools with outputSchemas, all conforming and mirrored.
+    target = Target(kind="stdio", command=(PY, str(SERVERS / "clean_reference.py")))
+    report = run_checks(target, ["output_schema", "output_mirrored"], go_examples=1)
+    assert sum(s.go_accepted for s in report.tools.values()) > 4
+    assert not list(report.findings)
+
+
+def test_output_mirrored_is_a_warning() -> None:
+    report = run_checks(faulty("output-unmirrored"), ["output_schema", "output_mirrored"], go_examples=2)
+    assert [(sig(f), f.severity) for f in report.findings] == [(("output_mirrored", "shout", None, None, "not-mirrored"), "warning")]
+    assert report.exit_code() == 0  # a SHOULD: warnings do not fail the run
+
+
+# -- server_alive ------------------------------------------------------------------------------------
+
+
+@pytest.mark.parametrize("revision", ["2025-11-25", "2026-07-28"])
+def test_server_alive_clean_server(revision: str) -> None:
+    report = run_checks(faulty("clean"), ["server_alive"], go_examples=1, revision=revision)
+    assert report.tools["echo"].go_calls > 0 and report.restarts == 0
+    assert not list(report.findings)
+
+
+# Pinned to 2025-11-25: liveness is a ping there (2026-07-28 has no ping and uses server/discover).
+def test_server_alive_finds_a_wedged_server() -> None:
+    report = run_checks(faulty("ping-dies"), ["server_alive"], go_examples=0, alive_timeout=0.3, max_restarts=1, revision="2025-11-25")
+    assert "RequestTimeout" in classes(report, "server_alive")
+    assert report.restarts == 1
+
+
+def test_server_alive_finds_a_ping_error() -> None:
+    report = run_checks(faulty("ping-error"), ["server_alive"], go_examples=0, max_restarts=1, revision="2025-11-25")
+    assert classes(report, "server_alive") == {"ping-error"}
+
+
+def test_server_alive_finds_a_server_that_died() -> None:
+    report = run_checks(Target(kind="stdio", command=(PY, str(SERVERS / "crashes_on_call.py"))), ["server_alive"], go_examples=0, max_restarts=0)
+    assert classes(report, "server_alive") == {"ServerExited"}
+
+
+# -- latency ------------------------------------------------------------------------------------------
+
+
+def test_latency_over_budget() -> None:
+    report = run_checks(faulty("slow"), ["latency"], go_examples=0, settings=CheckSettings(latency_budget={"echo": 0.05}))
+    assert "over-budget" in classes(report, "latency")
+    assert all(d >= 0.1 for d in report.tools["echo"].durations)
+
+
+def test_latency_within_budget() -> None:
+    report = run_checks(faulty("slow"), ["latency"], go_examples=0, settings=CheckSettings(latency_budget={"*": 5.0}))
+    assert report.tools["echo"].durations  # every call's duration is recorded
+    assert not list(report.findings)

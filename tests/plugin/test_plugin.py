@@ -1,0 +1,106 @@
+"""The pytest plugin, run on throwaway projects with pytester (as pytest tests its own plugins).
+
+The demo server's planted defects (tests/demo_defects.py) must each fail the right item; the clean
+reference server (built with the official SDK) must fail none; -k, -x, -n 2 and --junitxml must work.
+"""
+
+from __future__ import annotations
+
+import sys
+import xml.etree.ElementTree as ET
+from pathlib import Path
+
+import pytest
+
+ROOT = Path(__file__).resolve().parents[2]
+sys.path.insert(0, str(ROOT / "tests"))
+from demo_defects import DEFECTS, DESTRUCTIVE_TOOLS  # noqa: E402
+
+#: Which item and check report each planted defect (issue 4: "find every planted defect ... by signature").
+EXPECTED = {
+    "off_by_one_at_maximum": ("book_berth[go]", "bounds_honoured"),
+    "missing_validation_pattern": ("order_services[no-go]", "nogo_rejected"),
+    "unicode_crash_leaks_traceback": ("register_vessel[go]", "no_leaks"),
+    "structured_output_breaks_schema": ("quote_fee[go]", "output_schema"),
+}
+
+
+def _project(pytester: pytest.Pytester, target: str, extra: str = "") -> None:
+    pytester.makefile(
+        ".toml",
+        pyproject=f"""
+        [tool.feeler]
+        targets = {{ demo = {target!r} }}
+        go_examples = 3
+        replay_dir = "replays"
+        {extra}
+        """,
+    )
+
+
+def test_every_planted_defect_fails_its_item(pytester: pytest.Pytester) -> None:
+    assert set(EXPECTED) == {d.key for d in DEFECTS}, "a planted defect has no expected item"
+    _project(pytester, "feeler.demo.server:server")
+    result = pytester.runpytest_subprocess("-p", "no:cacheprovider", "--junitxml=report.xml", "-q", "-rfEs")
+    failed = {line.split("::")[-1].split(" ")[0] for line in result.outlines if line.startswith("FAILED")}
+    for key, (item, check) in EXPECTED.items():
+        assert item in failed, f"{key}: item {item} did not fail"
+        assert any(f"[{check}]" in line for line in result.outlines), f"{key}: no [{check}] finding shown"
+    # The destructive tool is skipped, not called (issue 4, Safety).
+    for tool in DESTRUCTIVE_TOOLS:
+        assert any(f"{tool}: annotated destructive" in line for line in result.outlines)
+    # junitxml: findings are attached to the test cases as properties.
+    tree = ET.parse(pytester.path / "report.xml")
+    props = [p.get("value") for p in tree.iter("property") if p.get("name") == "feeler_finding"]
+    assert any("bounds_honoured" in str(p) for p in props)
+    assert result.ret == pytest.ExitCode.TESTS_FAILED
+
+
+def test_clean_reference_server_passes(pytester: pytest.Pytester) -> None:
+    command = f"{sys.executable} {ROOT / 'tests' / 'servers' / 'clean_reference.py'}"
+    _project(pytester, command)
+    result = pytester.runpytest_subprocess("-p", "no:cacheprovider", "-q")
+    outcomes = result.parseoutcomes()
+    assert outcomes.get("failed", 0) == 0 and outcomes.get("passed", 0) > 0
+    assert result.ret == pytest.ExitCode.OK
+    assert any("passed" in line for line in result.outlines)
+
+
+def test_k_selects_and_x_stops(pytester: pytest.Pytester) -> None:
+    _project(pytester, "feeler.demo.server:server")
+    result = pytester.runpytest_subprocess("-p", "no:cacheprovider", "-q", "-k", "quote_fee and go and not no")
+    result.assert_outcomes(failed=1)
+    result = pytester.runpytest_subprocess("-p", "no:cacheprovider", "-q", "-x")
+    assert sum(1 for line in result.outlines if line.startswith("FAILED")) == 1
+
+
+def test_xdist_two_workers(pytester: pytest.Pytester) -> None:
+    pytest.importorskip("xdist")
+    _project(pytester, "feeler.demo.server:server")
+    result = pytester.runpytest_subprocess("-p", "no:cacheprovider", "-q", "-n", "2", "-k", "order_services or book_berth")
+    failed = {line.split("::")[-1].split(" ")[0] for line in result.outlines if line.startswith("FAILED")}
+    assert {"order_services[no-go]", "book_berth[go]"} <= failed
+
+
+def test_session_fixture_for_hand_written_tests(pytester: pytest.Pytester) -> None:
+    _project(pytester, "feeler.demo.server:server")
+    pytester.makepyfile(
+        test_mine="""
+        def test_lists(feeler_session):
+            # MCP server/tools: tools/list answers with a list of tools
+            tools, _ = feeler_session.list_all("tools/list")
+            assert "quote_fee" in {t["name"] for t in tools}
+        """
+    )
+    result = pytester.runpytest_subprocess("-p", "no:cacheprovider", "-q", "--feeler-off", "test_mine.py")
+    # --feeler-off adds no items, and the fixture then skips with a reason
+    result.assert_outcomes(skipped=1)
+    result = pytester.runpytest_subprocess("-p", "no:cacheprovider", "-q", "test_mine.py", "-k", "test_lists")
+    result.assert_outcomes(passed=1)
+
+
+def test_bad_config_is_a_usage_error(pytester: pytest.Pytester) -> None:
+    pytester.makefile(".toml", pyproject="[tool.feeler]\ntargts = { demo = 'x' }\n")
+    result = pytester.runpytest_subprocess("-p", "no:cacheprovider", "-q")
+    assert result.ret == pytest.ExitCode.USAGE_ERROR or result.ret == pytest.ExitCode.INTERNAL_ERROR
+    assert any("did you mean 'targets'" in line for line in result.errlines + result.outlines)
