@@ -16,7 +16,7 @@ TARGET = "feeler.demo.server:server"
 def test_demo_matches_its_approved_baseline() -> None:
     store = BaselineStore(ROOT, TARGET)
     if not store.exists():
-        pytest.skip(f"no approved baseline at {store.folder}; record it with "
+        pytest.fail(f"no approved baseline at {store.folder}; record it with "
                     f"`feeler approve {TARGET} --yes` from the project root")
     from feeler.connect import capture_catalog
 
