@@ -104,3 +104,23 @@ def test_bad_config_is_a_usage_error(pytester: pytest.Pytester) -> None:
     result = pytester.runpytest_subprocess("-p", "no:cacheprovider", "-q")
     assert result.ret == pytest.ExitCode.USAGE_ERROR or result.ret == pytest.ExitCode.INTERNAL_ERROR
     assert any("did you mean 'targets'" in line for line in result.errlines + result.outlines)
+
+
+def test_catalog_item_fails_on_drift_and_approve_writes(pytester: pytest.Pytester) -> None:
+    from feeler.baseline import target_slug
+
+    # The approved baseline of the current demo, placed where the *next release* target looks for its own.
+    approved = (ROOT / "baselines" / target_slug("feeler.demo.server:server") / "catalog.json").read_text(encoding="utf-8")
+    folder = pytester.path / "baselines" / target_slug("feeler.demo.server:next_server")
+    folder.mkdir(parents=True)
+    (folder / "catalog.json").write_text(approved, encoding="utf-8")
+    _project(pytester, "feeler.demo.server:next_server")
+    result = pytester.runpytest_subprocess("-p", "no:cacheprovider", "-q", "-k", "catalog")
+    result.assert_outcomes(failed=1)
+    assert any("differs from the approved baseline" in line for line in result.outlines)
+    assert any("[BREAKING]" in line for line in result.outlines)
+    result = pytester.runpytest_subprocess("-p", "no:cacheprovider", "-q", "-k", "catalog", "--feeler-approve")
+    result.assert_outcomes(passed=1)
+    assert (folder / "catalog.json").read_text(encoding="utf-8") != approved
+    result = pytester.runpytest_subprocess("-p", "no:cacheprovider", "-q", "-k", "catalog")
+    result.assert_outcomes(passed=1)
