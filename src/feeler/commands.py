@@ -12,6 +12,7 @@ import click
 from feeler.catalog import Catalog
 from feeler.cli_options import ConnectOptions, target_options
 from feeler.connect import capture_catalog
+from feeler.errors import UsageError
 
 __all__ = ["catalog", "demo", "summary", "write_text_atomic"]
 
@@ -71,7 +72,10 @@ def catalog(output: str | None, **kwargs: Any) -> int:
     cat = capture_catalog(opts.target, **opts.session)
     text = cat.dumps()
     if output:
-        write_text_atomic(output, text)
+        try:
+            write_text_atomic(output, text)
+        except OSError as exc:
+            raise UsageError(f"cannot write the catalog to {output}: {exc.strerror or exc}") from exc
         click.echo(f"feeler: wrote the catalog of {opts.target.name} to {output} ({len(cat.tools)} tools)", err=True)
     else:
         click.echo(text, nl=False)

@@ -10,7 +10,8 @@ from __future__ import annotations
 
 from feeler.generate._schema import DIALECTS, ToolSchema, compile_schema
 from feeler.generate.boundaries import BOUNDARIES
-from feeler.generate.cases import Case, Tally, arguments, drawn_cases, go_cases, nogo_cases
+# fast_go_cases is importable from here; adding it to __all__ waits for the pinned list in test_gen_api.
+from feeler.generate.cases import Case, Tally, arguments, drawn_cases, fast_go_cases, go_cases, nogo_cases
 from feeler.generate.coverage import KeywordCoverage, coverage
 from feeler.generate.mutators import MUTATORS
 from feeler.generate.probes import Probe, protocol_probes

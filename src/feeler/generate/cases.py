@@ -11,6 +11,7 @@ dropped and counted in :class:`Tally`.
 
 from __future__ import annotations
 
+import random
 from collections.abc import Iterator
 from dataclasses import dataclass, field
 from typing import Any
@@ -20,13 +21,14 @@ from hypothesis import strategies as st
 from feeler._json import canonical_dumps, json_path
 from feeler.errors import SchemaProblem
 from feeler.generate._build import Unbuildable, build, example
+from feeler.generate._fast import fast_values
 from feeler.generate._schema import ToolSchema, compile_schema
 from feeler.generate._strategies import draws, strategy_for
 from feeler.generate._walk import Site, sites
 from feeler.generate.boundaries import BOUNDARIES
 from feeler.generate.mutators import MUTATORS
 
-__all__ = ["Case", "Tally", "arguments", "base_instances", "drawn_cases", "go_cases", "nogo_cases"]
+__all__ = ["Case", "Tally", "arguments", "base_instances", "drawn_cases", "fast_go_cases", "go_cases", "nogo_cases"]
 
 
 @dataclass(frozen=True)
@@ -155,10 +157,10 @@ def _sites(ts: ToolSchema, bases: list[Any]) -> Iterator[Site]:
 
 
 def go_cases(schema: Any, *, draws: int = 0, seed: int = 0, tally: Tally | None = None) -> list[Case]:
-    """Explicit boundary go cases for *schema* (each bound hit exactly), then *draws* hypothesis go cases.
+    """Explicit boundary go cases for *schema* (each bound hit exactly), then *draws* drawn go cases.
 
     :param schema: a JSON Schema or a :class:`ToolSchema`.
-    :param draws: how many drawn go cases to add (``origin="hypothesis"``, ``keyword=None``).
+    :param draws: how many drawn go cases to add (:func:`fast_go_cases`; ``origin="hypothesis"``, ``keyword=None``).
     :param seed: the seed for the drawn cases; boundary cases do not depend on it.
     :param tally: filled with the number of candidates the oracle refused.
     :raises SchemaProblem: the schema cannot be used (see :class:`ToolSchema`).
@@ -194,12 +196,29 @@ def go_cases(schema: Any, *, draws: int = 0, seed: int = 0, tally: Tally | None 
 
 
 def drawn_cases(schema: Any, count: int, *, seed: int = 0) -> list[Case]:
-    """*count* go cases drawn from :func:`arguments` under *seed* (deterministic), ``origin="hypothesis"``."""
+    """*count* drawn go cases under *seed* (deterministic), ``origin="hypothesis"``; see :func:`fast_go_cases`."""
+    return fast_go_cases(schema, count, seed=seed)
+
+
+def fast_go_cases(schema: Any, count: int, *, seed: int = 0) -> list[Case]:
+    """*count* go cases built by a seeded sampler outside hypothesis' engine, each checked by the oracle.
+
+    The schema is compiled once into one sampler per node (:mod:`._fast`); values come from
+    ``random.Random(seed)``, so the same seed gives the same cases. If the sampler cannot fill
+    *count* (a node it cannot build and a pool hypothesis could not fill), the rest is drawn from
+    :func:`arguments` under the same seed. For shrinking and the example database use
+    :func:`arguments` in a ``@given`` test instead.
+
+    :raises SchemaProblem: the schema cannot be used (see :class:`ToolSchema`).
+    """
     ts = compile_schema(schema)
-    return [
-        Case("go", None, "$", "", value, None, "hypothesis", "drawn")
-        for value in draws(arguments(ts), count, seed=seed)
-    ]
+    if count <= 0:
+        return []
+    values, _ = fast_values(ts, count, random.Random(seed))
+    if len(values) < count:
+        values += draws(arguments(ts), count - len(values), seed=seed)
+    # origin "hypothesis" names the drawn (non-boundary) go cases, whichever sampler made them.
+    return [Case("go", None, "$", "", value, None, "hypothesis", "drawn") for value in values]
 
 
 def nogo_cases(schema: Any, *, root_type: bool = False, per_keyword: int = 3, tally: Tally | None = None) -> list[Case]:
