@@ -106,8 +106,11 @@ def test_bad_config_is_a_usage_error(pytester: pytest.Pytester) -> None:
     assert any("did you mean 'targets'" in line for line in result.errlines + result.outlines)
 
 
-def test_catalog_item_fails_on_drift_and_approve_writes(pytester: pytest.Pytester) -> None:
+def test_catalog_item_fails_on_drift_and_approve_writes(pytester: pytest.Pytester, monkeypatch: pytest.MonkeyPatch) -> None:
     from feeler.baseline import target_slug
+
+    # When this suite itself runs under pytest-xdist, the child run must not look like a worker.
+    monkeypatch.delenv("PYTEST_XDIST_WORKER", raising=False)
 
     # The approved baseline of the current demo, placed where the *next release* target looks for its own.
     approved = (ROOT / "baselines" / target_slug("feeler.demo.server:server") / "catalog.json").read_text(encoding="utf-8")
