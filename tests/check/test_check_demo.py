@@ -33,6 +33,7 @@ EXPECTED: dict[str, list[tuple[Any, ...]]] = {
         ("go_accepted", "register_vessel", "go", None, None, "internal-error"),
         ("no_crash", "register_vessel", "go", None, None, "unhandled:UnicodeEncodeError"),
         ("no_leaks", "register_vessel", "go", None, None, "python-traceback"),
+        ("no_leaks", "register_vessel", "go", None, None, "absolute-path"),
     ],
     # MCP 2025-06-18 server/tools (Output Schema): structuredContent lacks the required total_cents.
     "structured_output_breaks_schema": [("output_schema", "quote_fee", "go", None, None, "invalid:required")],
@@ -100,11 +101,7 @@ def test_demo_destructive_tool_skipped_and_unannotated_listed(demo_run: tuple[in
     assert all(report["tools"][n]["annotated"] for n in report["tools"] if n not in UNANNOTATED_TOOLS)
 
 
-@pytest.mark.xfail(
-    strict=True,
-    reason="no_leaks only knows absolute paths under a fixed list of roots (/home, /usr, /srv...); the demo's "
-    "traceback paths start with /work/... (this checkout), so the path leak is reported only as a traceback",
-)
+# The demo leaks absolute source paths in its traceback (no_leaks: "absolute-path").
 def test_demo_traceback_paths_reported(demo_run: tuple[int, dict[str, Any], Path]) -> None:
     _, report, _ = demo_run
     assert ("no_leaks", "register_vessel", "go", None, None, "absolute-path") in {_full(f) for f in report["findings"]}
@@ -119,6 +116,7 @@ def test_demo_traceback_paths_reported(demo_run: tuple[int, dict[str, Any], Path
         ("nogo_rejected", "order_services", "no-go", "pattern", "$.booking_ref", "accepted-invalid"),
         ("no_crash", "register_vessel", "go", None, None, "unhandled:UnicodeEncodeError"),
         ("no_leaks", "register_vessel", "go", None, None, "python-traceback"),
+        ("no_leaks", "register_vessel", "go", None, None, "absolute-path"),
     ],
     ids=["missing-validation", "unicode-crash", "unicode-leak"],
 )

@@ -26,7 +26,7 @@ OBJECT_SCHEMA = {
 def test_hypothesis_jsonschema_draws_objects() -> None:
     drawn: list[dict] = []
 
-    @settings(max_examples=25, database=None, deadline=None, suppress_health_check=[HealthCheck.too_slow])
+    @settings(max_examples=25, database=None, deadline=None, suppress_health_check=list(HealthCheck))
     @given(from_schema(OBJECT_SCHEMA))
     def collect(value: dict) -> None:
         drawn.append(value)

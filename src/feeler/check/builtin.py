@@ -218,7 +218,12 @@ _TRACES = {
     "java-stack": re.compile(r"\bat [\w$.]+\([\w$]+\.java:\d+\)|Exception in thread \""),
     "go-panic": re.compile(r"goroutine \d+ \[|\bpanic: "),
 }
-_ABS_PATH = re.compile(r"(?<![\w.~:/])(/(?:home|Users|usr|opt|var|srv|root|app|tmp|etc|mnt|workspace)/[\w.@+-]+(?:/[\w.@+-]+)+|[A-Za-z]:\\\\?(?:[\w .-]+\\\\?)+)")
+_ABS_PATH = re.compile(
+    r"(?<![\w.~:/])("
+    r"/(?:home|Users|usr|opt|var|srv|root|app|tmp|etc|mnt|workspace)/[\w.@+-]+(?:/[\w.@+-]+)+"  # well-known roots
+    r"|/[\w.@+-]+(?:/[\w.@+-]+)+\.(?:py|pyc|js|mjs|cjs|ts|java|go|rb|php|rs|cs)\b"  # any absolute source file
+    r"|[A-Za-z]:\\\\?(?:[\w .-]+\\\\?)+)"
+)
 
 
 @register("no_leaks", applies_to=("go", "no-go", "probe"), reference="common practice (OWASP: error handling); MCP 2025-11-25 server/tools security")

@@ -9,6 +9,9 @@ from typing import Any
 
 __all__ = ["Finding", "FindingSet"]
 
+#: Checks whose no-go findings are about the broken keyword itself.
+_RULE_CHECKS = frozenset({"nogo_rejected", "no_crash"})
+
 
 @dataclass
 class Finding:
@@ -40,10 +43,12 @@ class Finding:
     def signature(self) -> str:
         """Same check, tool, keyword and path, and error class: the same finding.
 
-        For a go case the keyword and path only say which boundary was exercised, not what is wrong,
-        so they are left out: one defect hit by several go cases is one finding.
+        The keyword and path belong to the signature only where they name what is wrong: a no-go case
+        the server accepted, or crashed on. Elsewhere they only say which case showed it (a boundary
+        exercised, a keyword broken while the envelope was wrong), so one defect is one finding.
         """
-        keyword, path = (None, None) if self.kind == "go" else (self.keyword, self.path)
+        names_rule = self.kind == "no-go" and self.check in _RULE_CHECKS
+        keyword, path = (self.keyword, self.path) if names_rule else (None, None)
         return "|".join(str(x) for x in (self.check, self.tool, keyword, path, self.error_class))
 
     @property
