@@ -97,7 +97,8 @@ class Target:
         """A short display name, used in every message about this target."""
         if self.kind == "stdio":
             text = shlex.join(self.command)
-            return text if len(text) <= 80 else text[:77] + "..."
+            # keep the end (the script) visible: long interpreter paths are the boring part
+            return text if len(text) <= 200 else text[:60] + "..." + text[-137:]
         if self.kind == "inprocess":
             return str(self.module)
         return f"sse+{self.url}" if self.kind == "sse" else str(self.url)
