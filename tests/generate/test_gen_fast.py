@@ -45,7 +45,8 @@ def _schemas(count: int) -> list[dict]:
     draws with ``@given`` itself, which hypothesis refuses inside another ``@given``."""
     out: list[dict] = []
 
-    @settings(max_examples=count, database=None, deadline=None, phases=[Phase.generate], suppress_health_check=list(HealthCheck))
+    @settings(max_examples=count, database=None, deadline=None, derandomize=True, phases=[Phase.generate],
+              suppress_health_check=list(HealthCheck))
     @given(tool_schemas())
     def collect(schema: dict) -> None:
         out.append(schema)

@@ -554,7 +554,10 @@ def _object(ts: ToolSchema, node: dict) -> Sampler:
         out = {name: values[name](rng) for name in required}
         for name in optional:
             if rng.random() < 0.5:
-                out[name] = values[name](rng)
+                try:
+                    out[name] = values[name](rng)
+                except (_Miss, Unbuildable):
+                    continue  # optional: an unsatisfiable or unlucky property is left out
         for keys, value in extras:
             if rng.random() < 0.3:
                 for _ in range(rng.randint(1, 2)):

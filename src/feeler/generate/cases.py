@@ -209,14 +209,26 @@ def fast_go_cases(schema: Any, count: int, *, seed: int = 0) -> list[Case]:
     :func:`arguments` under the same seed. For shrinking and the example database use
     :func:`arguments` in a ``@given`` test instead.
 
-    :raises SchemaProblem: the schema cannot be used (see :class:`ToolSchema`).
+    :raises SchemaProblem: the schema cannot be used (see :class:`ToolSchema`), or no valid value was
+        found (``unsatisfiable``).
     """
     ts = compile_schema(schema)
     if count <= 0:
         return []
     values, _ = fast_values(ts, count, random.Random(seed))
     if len(values) < count:
-        values += draws(arguments(ts), count - len(values), seed=seed)
+        try:
+            values += draws(arguments(ts), count - len(values), seed=seed)
+        except Exception:  # noqa: BLE001 - hypothesis gave up too (filter, unsatisfiable node); use what we have
+            pass
+    if not values:
+        where = f"tool {ts.name!r}: " if ts.name else ""
+        raise SchemaProblem(
+            f"{where}feeler found no value this schema accepts (it may be unsatisfiable); no go case can be made",
+            reason="unsatisfiable",
+        )
+    # Short of *count* only when both samplers struggled: repeat the values found, in order.
+    values = [values[i % len(values)] for i in range(count)]
     # origin "hypothesis" names the drawn (non-boundary) go cases, whichever sampler made them.
     return [Case("go", None, "$", "", value, None, "hypothesis", "drawn") for value in values]
 
