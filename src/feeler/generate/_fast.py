@@ -509,12 +509,19 @@ def _array(ts: ToolSchema, node: dict) -> Sampler:
         keys = {canonical_dumps(v) for v in out} if unique else set()
         misses = 0
         while len(out) < size:
-            value = tail(rng)  # type: ignore[misc]
+            try:
+                value = tail(rng)  # type: ignore[misc]
+            except (_Miss, Unbuildable):
+                if len(out) >= low:
+                    break  # a shorter array is still valid (an item schema nothing satisfies allows only [])
+                raise
             if unique:
                 key = canonical_dumps(value)
                 if key in keys:
                     misses += 1
                     if misses > 4 * size + 8:
+                        if len(out) >= low:
+                            break  # fewer distinct items exist than drawn for: keep the shorter array
                         raise _Miss
                     continue
                 keys.add(key)
