@@ -48,7 +48,10 @@ _KEYS: dict[str, tuple[tuple[type, ...], str]] = {
     "skip_checks": ((list,), "a list of check names"),
     "profile": ((str,), "a hypothesis settings profile name: ci, dev or nightly"),
     "baselines": ((str,), "a folder"),
-    "output_masks": ((list,), "a list of JSON paths or re: patterns"),
+    "output_masks": ((list,), "a list of JSON paths ($.structuredContent.issuedAt, * for any key)"),
+    "output_mask_patterns": ((list,), "a list of regular expressions over string values"),
+    "record_tools": ((list,), "a list of tool name patterns whose outputs are recorded (read-only tools always are)"),
+    "record_per_tool": ((int,), "a whole number of pinned go cases recorded per tool"),
     "replay_dir": ((str,), "a folder"),
 }
 

@@ -291,6 +291,7 @@ def _baseline_problems(plugin: FeelerPlugin, name: str, runner: Runner) -> list[
         runner.target, catalog, folder=plugin.cfg.get("baselines", "baselines"),
         approve=bool(plugin.config.getoption(OPT_APPROVE)),
         is_worker=hasattr(plugin.config, "workerinput"),
+        session=runner.open(), config=plugin.cfg.values,
     )  # fmt: skip
 
 

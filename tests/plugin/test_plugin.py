@@ -127,3 +127,26 @@ def test_catalog_item_fails_on_drift_and_approve_writes(pytester: pytest.Pyteste
     assert (folder / "catalog.json").read_text(encoding="utf-8") != approved
     result = pytester.runpytest_subprocess("-p", "no:cacheprovider", "-q", "-k", "catalog")
     result.assert_outcomes(passed=1)
+
+
+def test_catalog_item_compares_recorded_outputs(pytester: pytest.Pytester, monkeypatch: pytest.MonkeyPatch) -> None:
+    import json
+
+    from feeler.baseline import target_slug
+
+    monkeypatch.delenv("PYTEST_XDIST_WORKER", raising=False)
+    source = ROOT / "baselines" / target_slug("feeler.demo.server:server")
+    folder = pytester.path / "baselines" / target_slug("feeler.demo.server:server")
+    folder.mkdir(parents=True)
+    (folder / "catalog.json").write_text((source / "catalog.json").read_text(encoding="utf-8"), encoding="utf-8")
+    outputs = json.loads((source / "outputs.json").read_text(encoding="utf-8"))
+    outputs["records"][0]["result"]["isError"] = True  # an approved output the server no longer gives
+    (folder / "outputs.json").write_text(json.dumps(outputs, indent=2), encoding="utf-8")
+    _project(pytester, "feeler.demo.server:server")
+    result = pytester.runpytest_subprocess("-p", "no:cacheprovider", "-q", "-k", "catalog")
+    result.assert_outcomes(failed=1)
+    assert any("recorded output(s) changed" in line for line in result.outlines)
+    result = pytester.runpytest_subprocess("-p", "no:cacheprovider", "-q", "-k", "catalog", "--feeler-approve")
+    result.assert_outcomes(passed=1)
+    result = pytester.runpytest_subprocess("-p", "no:cacheprovider", "-q", "-k", "catalog")
+    result.assert_outcomes(passed=1)

@@ -31,10 +31,17 @@ def _is_terminal() -> bool:
 @click.option("--name", default=None, help="Target name for the baseline folder (default: TARGET itself).")
 @click.option("--outputs", "outputs_file", type=click.Path(exists=True, dir_okay=False), default=None,
               help="JSON list of recorded outputs [{tool, arguments, result}] to store beside the catalog.")
+@click.option("--record-outputs", is_flag=True,
+              help="Also call the target's read-only tools with their pinned go cases and store the results.")
+@click.option("--record-tools", multiple=True, metavar="PATTERN",
+              help="With --record-outputs: also record these tools (glob; '*' = every tool not annotated "
+                   "destructive). Never against production: the tools are called for real.")
+@click.option("--per-tool", type=click.IntRange(1, 100), default=None, help="Pinned go cases per recorded tool [3].")
 @click.option("--revision", default=None, help="Code revision to record in the header (e.g. a git commit).")
 @click.option("--yes", "-y", is_flag=True, help="Write without asking (for scripts and CI).")
 @click.option("--timeout", type=float, default=30.0, show_default=True, help="Seconds for a live capture.")
-def approve(target: str, root: str, name: str | None, outputs_file: str | None, revision: str | None, yes: bool,
+def approve(target: str, root: str, name: str | None, outputs_file: str | None, record_outputs: bool,
+            record_tools: tuple[str, ...], per_tool: int | None, revision: str | None, yes: bool,
             timeout: float) -> None:
     """Record TARGET's catalog as the approved baseline, after showing what changed.
 
@@ -47,9 +54,20 @@ def approve(target: str, root: str, name: str | None, outputs_file: str | None, 
     if not yes and not _is_terminal():
         raise click.UsageError("stdin is not a terminal, so feeler cannot ask before writing the baseline; "
                                "pass --yes to write it")
+    from feeler.config import load_config
+    from feeler.diff.outputs import OutputMasks
+
+    if record_outputs and outputs_file:
+        raise click.UsageError("give either --outputs FILE or --record-outputs, not both")
     try:
-        catalog, label = load_side(target, timeout=timeout)
+        config = load_config()
+        masks = OutputMasks.from_config(config.values)
         outputs = None
+        if record_outputs:
+            catalog, label, outputs = _record(target, timeout, list(record_tools) or list(config.get("record_tools", [])),
+                                              per_tool or int(config.get("record_per_tool", 3)))
+        else:
+            catalog, label = load_side(target, timeout=timeout)
         if outputs_file:
             try:
                 outputs = json.loads(Path(outputs_file).read_text(encoding="utf-8"))
@@ -58,9 +76,25 @@ def approve(target: str, root: str, name: str | None, outputs_file: str | None, 
             if not isinstance(outputs, list):
                 raise click.UsageError(f"{outputs_file}: expected a JSON list of {{tool, arguments, result}}")
         store = BaselineStore(root, name or label)
-        result = run_approve(store, catalog, outputs, revision=revision, echo=click.echo,
+        result = run_approve(store, catalog, outputs, revision=revision, echo=click.echo, masks=masks,
                              confirm=(lambda _q: True) if yes else (lambda q: click.confirm(q, default=False)))
     except FeelerError as exc:
         raise click.ClickException(str(exc)) from exc
     if result.status == "refused":
         raise SystemExit(1)
+
+
+def _record(target: str, timeout: float, tools: list[str], per_tool: int) -> tuple[object, str, list[dict]]:
+    """Capture the catalog and record pinned outputs in one session."""
+    from pathlib import Path as _Path
+
+    from feeler.baseline.record import record_outputs
+    from feeler.connect import capture, connected
+
+    if _Path(target).exists():
+        raise click.UsageError(f"{target} is a file or folder; --record-outputs needs a live target")
+    with connected(target, timeout=timeout) as session:
+        catalog = capture(session)
+        outputs = record_outputs(session, catalog, tools=tools, per_tool=per_tool)
+    click.echo(f"feeler approve: recorded {len(outputs)} output(s) of {len({r['tool'] for r in outputs})} tool(s)")
+    return catalog, target, outputs

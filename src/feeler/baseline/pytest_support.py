@@ -1,4 +1,5 @@
-"""The plugin's catalog item: compare the live catalog with the approved baseline, or approve it.
+"""The plugin's catalog item: compare the live catalog and recorded outputs with the approved
+baseline, or approve them.
 
 Storage never breaks a run: a missing baseline is not a failure (there is nothing to compare with yet)
 and a corrupt one is a warning; xdist workers never write (only the controller does).
@@ -15,27 +16,63 @@ __all__ = ["check_catalog_against_baseline"]
 
 
 def check_catalog_against_baseline(
-    target: Any, catalog: Catalog, *, folder: str, approve: bool, is_worker: bool
+    target: Any,
+    catalog: Catalog,
+    *,
+    folder: str,
+    approve: bool,
+    is_worker: bool,
+    session: Any = None,
+    config: dict[str, Any] | None = None,
 ) -> list[str]:
-    """Problems to fail the catalog item with (empty: it matches, or it was approved)."""
-    from feeler.diff import diff_catalogs, render
+    """Problems to fail the catalog item with (empty: it matches, or it was approved).
 
+    :param session: a live session; with it, recorded outputs are compared (or recorded on approve).
+    :param config: the ``[tool.feeler]`` table (masks, ``record_tools``, ``record_per_tool``).
+    """
+    from feeler.diff import diff_catalogs, render
+    from feeler.diff.outputs import OutputMasks, compare_outputs
+
+    cfg = config or {}
     store = BaselineStore(folder, target.name)
     if approve:
         if is_worker or not is_writer():
             return []  # the controller process writes; workers only compare
-        store.write(catalog)
+        outputs = None
+        if session is not None and (store.outputs_path.exists() or cfg.get("record_tools")):
+            from feeler.baseline.record import record_outputs
+
+            outputs = record_outputs(session, catalog, tools=cfg.get("record_tools", []),
+                                     per_tool=int(cfg.get("record_per_tool", 3)))  # fmt: skip
+        store.write(catalog, outputs)
         return []
     approved = store.catalog_or_none()
     if approved is None:
         return []
+    problems: list[str] = []
     report = diff_catalogs(approved, catalog, samples=5, old_label="baseline", new_label="live")
-    if not report.changes:
-        return []
-    breaking = [c for c in report.changes if c.is_breaking]
-    head = (
-        f"the catalog differs from the approved baseline {store.catalog_path} "
-        f"({len(report.changes)} changes, {len(breaking)} breaking; if intended, approve it with "
-        f"`feeler approve {target.name}` or pytest --feeler-approve)"
-    )
-    return [head, render(report, "text")]
+    if report.changes:
+        breaking = [c for c in report.changes if c.is_breaking]
+        problems += [
+            f"the catalog differs from the approved baseline {store.catalog_path} "
+            f"({len(report.changes)} changes, {len(breaking)} breaking; if intended, approve it with "
+            f"`feeler approve {target.name}` or pytest --feeler-approve)",
+            render(report, "text"),
+        ]
+    if session is not None and store.outputs_path.exists():
+        from feeler.baseline.record import rerun_records
+        from feeler.errors import BaselineError
+
+        try:
+            records = store.read_outputs()
+        except BaselineError as exc:
+            return problems + [str(exc)]
+        changes = compare_outputs(records, rerun_records(session, records), OutputMasks.from_config(cfg))
+        if changes:
+            problems.append(
+                f"{len(changes)} recorded output(s) changed since {store.outputs_path} was approved "
+                "(mask volatile fields with output_masks in [tool.feeler]; approve an intended change "
+                "with pytest --feeler-approve):"
+            )
+            problems += [f"  {change}" for change in changes[:20]]
+    return problems

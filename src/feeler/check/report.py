@@ -43,6 +43,14 @@ def report_text(report: RunReport, *, verbose: bool = False) -> str:
             )
             if stats.nogo_calls:
                 lines.append(f"  rejects with {stats.rejection_style(report.revision)}")
+            if stats.coverage:
+                cov = stats.coverage_summary()
+                gaps = ", ".join(f"{g['keyword']}@{g['schemaPath']}" for g in cov["gaps"][:4])
+                more = f" (+{len(cov['gaps']) - 4} more)" if len(cov["gaps"]) > 4 else ""
+                lines.append(
+                    f"  keywords: {cov['both']}/{cov['keywords']} with a go and a no-go case"
+                    + (f"; not both: {gaps}{more}" if gaps and verbose else "")
+                )
         for finding in by_tool.pop(name, []):
             lines.extend(_finding_lines(finding, verbose))
     rest = [f for tool_findings in by_tool.values() for f in tool_findings]
@@ -94,6 +102,7 @@ def report_json(report: RunReport) -> str:
                 "probes": s.probes,
                 "medianSeconds": _median(s.durations),
                 "schemaProblem": s.schema_problem,
+                "coverage": s.coverage_summary() if s.coverage else None,
             }
             for name, s in sorted(report.tools.items())
         },

@@ -79,6 +79,19 @@ class ToolStats:
     timeouts: int = 0
     durations: list[float] = field(default_factory=list)
     schema_problem: str | None = None
+    #: the explicit cases sent (boundary go and no-go), kept to compute keyword coverage
+    cases: list[Any] = field(default_factory=list, repr=False)
+    coverage: list[Any] = field(default_factory=list)
+
+    def coverage_summary(self) -> dict[str, Any]:
+        """How many schema keywords (by location) got a go and a no-go case, and which got none, why."""
+        full = [c for c in self.coverage if c.go and c.nogo]
+        gaps = [
+            {"schemaPath": c.schema_path or "/", "keyword": c.keyword, "go": c.go, "nogo": c.nogo, "reason": c.reason}
+            for c in self.coverage
+            if not (c.go and c.nogo)
+        ]
+        return {"keywords": len(self.coverage), "both": len(full), "gaps": gaps}
 
     def rejection_style(self, revision: str) -> str:
         """Which way the tool rejects bad arguments, and whether that fits *revision*."""
@@ -254,6 +267,7 @@ class Runner:
             self._probes(tool, stats)
         if "go" in kinds and not reason:
             self._evaluate(CallContext("tool", tool, self.revision, self.era, self.settings, stats=stats))
+        self._coverage(tool, stats)
         return [f for f in self.report.findings if f.signature not in before]
 
     @property
@@ -263,6 +277,13 @@ class Runner:
     @property
     def era(self) -> str:
         return self.report.catalog.era if self.report.catalog else "?"
+
+    @staticmethod
+    def _coverage(tool: Tool, stats: ToolStats) -> None:
+        from feeler.generate import coverage
+
+        if stats.schema_problem is None and stats.cases:
+            stats.coverage = coverage(tool.input_schema, stats.cases)
 
     # -- case kinds ----------------------------------------------------------------------------------
     def _catalog_checks(self, tool: Tool, stats: ToolStats) -> None:
@@ -278,6 +299,7 @@ class Runner:
         from feeler.generate import arguments, go_cases
 
         for case in go_cases(tool.input_schema, seed=self.options.seed):
+            stats.cases.append(case)
             if not self._call_case(tool, stats, case):
                 return
         if self.options.go_examples <= 0 or self.options.dry_run:
@@ -329,6 +351,7 @@ class Runner:
         from feeler.generate import nogo_cases
 
         for case in nogo_cases(tool.input_schema):
+            stats.cases.append(case)
             if not self._call_case(tool, stats, case):
                 return
 
