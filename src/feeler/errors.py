@@ -115,4 +115,9 @@ class HandshakeError(TargetError):
 
 
 class RemoteProtocolError(TargetError):
-    """The server sent something that breaks JSON-RPC in a way the session cannot recover from."""
+    """The server sent something that breaks JSON-RPC in a way the session cannot recover from.
+
+    :ivar exchange: the :class:`~feeler.session.Exchange` it happened in, when there is one.
+    """
+
+    exchange: object = None

@@ -482,11 +482,15 @@ class Session:
                 self._violate(ex, Violation("late-answer", f"a late answer to request {got!r}", inbound.text[:500]))
                 return False
             self._violate(ex, Violation("unknown-id", f"an answer with id {got!r} instead of {ex.request_id!r}", inbound.text[:500]))
-            raise RemoteProtocolError(
+            ex.response = msg  # kept so that checks can judge the envelope
+            ex.finished = inbound.at
+            error = RemoteProtocolError(
                 f"{self._what(ex)}: the server answered with id {got!r}, which feeler never sent "
                 f"(JSON-RPC 2.0 section 5: the id must echo the request's)",
                 target=self.target,
             )
+            error.exchange = ex
+            raise error
         self._violate(ex, Violation("not-jsonrpc", "a JSON object that is neither request, notification nor answer", inbound.text[:500]))
         return False
 

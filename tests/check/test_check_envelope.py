@@ -94,3 +94,12 @@ def test_result_shape_follows_the_negotiated_revision() -> None:
     assert _shape_errors("tools/call", "2025-11-25", result) == []
     assert _shape_errors("tools/call", "2026-07-28", result)
     assert _shape_errors("tools/call", "2026-07-28", {**result, "resultType": "complete"}) == []
+
+
+def test_check_reports_a_wrong_id_on_tools_call_as_an_envelope_finding() -> None:
+    # JSON-RPC 2.0 section 5: the answer's id must echo the request's, type included. The session stops
+    # waiting at once (an id it never sent), and the runner hands the answer to the envelope check.
+    report = run_checks(faulty("string-id"), ["envelope", "no_crash"], go_examples=1)
+    found = {(f.check, f.error_class) for f in report.findings}
+    assert ("envelope", "id-echo") in found
+    assert not any(f.check == "no_crash" for f in report.findings)

@@ -19,7 +19,7 @@ from feeler.catalog import Catalog, Tool
 from feeler.check.findings import Finding, FindingSet
 from feeler.check.registry import CallContext, Check, CheckSettings, Problem, select_checks
 from feeler.connect import capture, open_session
-from feeler.errors import RequestTimeout, SchemaProblem, ServerExited, TargetError
+from feeler.errors import RemoteProtocolError, RequestTimeout, SchemaProblem, ServerExited, TargetError
 from feeler.session import Exchange, Session
 from feeler.target import Target
 
@@ -381,6 +381,11 @@ class Runner:
             ctx.failure = exc
             if isinstance(exc, RequestTimeout):
                 stats.timeouts += 1
+        except RemoteProtocolError as exc:
+            if exc.exchange is not None:
+                ctx.exchange = exc.exchange  # an answer came, with a wrong id: the envelope check judges it
+            else:
+                ctx.failure = exc
         except TargetError as exc:
             ctx.failure = exc
         self._count(stats, ctx)
