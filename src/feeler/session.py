@@ -94,6 +94,8 @@ class MessageLog:
     def __init__(self, max_frames: int = 20_000) -> None:
         self.frames: deque[Frame] = deque(maxlen=max_frames)
         self.violations: list[Violation] = []
+        #: 2026-07-28 ``InputRequiredResult`` answers (MCP 2026-07-28 basic/patterns/mrtr), newest last
+        self.input_required: deque[Exchange] = deque(maxlen=1000)
 
     def add(self, frame: Frame) -> None:
         self.frames.append(frame)
@@ -415,6 +417,8 @@ class Session:
                 ex.http_status = inbound.http_status
             if self._handle(ex, inbound, mode):
                 ex.finished = inbound.at
+                if ex.input_required:
+                    self.log.input_required.append(ex)
                 return
 
     def _what(self, ex: Exchange) -> str:
