@@ -118,7 +118,7 @@ def test_demo_traceback_paths_reported(demo_run: tuple[int, dict[str, Any], Path
         ("no_leaks", "register_vessel", "go", None, None, "python-traceback"),
         ("no_leaks", "register_vessel", "go", None, None, "absolute-path"),
     ],
-    ids=["missing-validation", "unicode-crash", "unicode-leak"],
+    ids=["missing-validation", "unicode-crash", "unicode-leak", "unicode-path-leak"],
 )
 def test_replay_reproduces(demo_run: tuple[int, dict[str, Any], Path], wanted: tuple[Any, ...]) -> None:
     _, report, replays = demo_run
