@@ -17,7 +17,6 @@ import importlib
 import sys
 import traceback
 from collections.abc import Sequence
-from typing import Any
 
 import click
 

@@ -24,7 +24,21 @@ def _budgets(values: tuple[str, ...], config: dict[str, Any]) -> dict[str, float
     return out
 
 
+def _list_checks(ctx: click.Context, _param: click.Parameter, value: bool) -> None:
+    if not value or ctx.resilient_parsing:
+        return
+    from feeler.check.registry import CHECKS
+
+    for check in sorted(CHECKS.values(), key=lambda c: c.name):
+        click.echo(f"{check.name:<18} {check.severity:<8} {', '.join(check.applies_to):<24} {check.doc}")
+        if check.reference:
+            click.echo(f"{'':<18} {'':<8} {'':<24} ({check.reference})")
+    ctx.exit(0)
+
+
 @click.command("check")
+@click.option("--list-checks", is_flag=True, expose_value=False, is_eager=True, callback=_list_checks,
+              help="List the checks (name, severity, what they look at, reference) and exit.")
 @target_options
 @click.option("--seed", type=int, default=None, help="Seed for generated cases (default 0: the same cases every run).")
 @click.option("--go-examples", type=click.IntRange(min=0), default=None, help="Drawn go cases per tool, besides the boundary cases [20].")

@@ -121,7 +121,7 @@ def register(
         if severity not in SEVERITIES:
             raise UsageError(f"check {name!r}: severity={severity!r} must be one of {SEVERITIES}")
         if not (func.__doc__ or "").strip():
-            raise UsageError(f"check {name!r}: give it a docstring; `feeler check --list` shows it")
+            raise UsageError(f"check {name!r}: give it a docstring; `feeler check --list-checks` shows it")
         if name in CHECKS and CHECKS[name].func is not func:
             raise UsageError(f"check {name!r} is registered twice")
         CHECKS[name] = Check(name, func, tuple(applies_to), severity, (func.__doc__ or "").strip().splitlines()[0], reference)

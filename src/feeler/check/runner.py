@@ -11,7 +11,7 @@ from __future__ import annotations
 import json
 import os
 import re
-from collections.abc import Callable, Iterator
+from collections.abc import Callable
 from dataclasses import dataclass, field
 from typing import Any
 
@@ -396,9 +396,8 @@ class Runner:
                 if collect:
                     raise _ToolAbandoned(tool.name)
                 return False
-        names = [n for n in failed + alive_failed]
         if collect:
-            return names
+            return failed + alive_failed
         return stats.timeouts < self.options.max_timeouts_per_tool
 
     def _count(self, stats: ToolStats, ctx: CallContext) -> None:
@@ -492,6 +491,3 @@ class Runner:
 class _ToolAbandoned(Exception):
     """Stops the hypothesis property when the tool cannot be called any more (hangs, restarts used up)."""
 
-
-def iter_cases(runner: Runner, tool: Tool) -> Iterator[Call]:  # pragma: no cover - convenience for dry runs
-    yield from (c for c in runner.report.planned if c.tool == tool.name)
