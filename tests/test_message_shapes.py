@@ -108,7 +108,7 @@ def test_the_validators_can_fail() -> None:
         wire2026.CallToolRequest.model_validate({"jsonrpc": "2.0", "id": None, "method": "tools/call", "params": {}})
 
 
-# -- PROTOCOL.md section 12 examples ----------------------------------------------------------------
+# -- PROTOCOL.md section 12 examples, copied verbatim (their sample data is the digest's, not ours) ---
 META_2026 = {
     "io.modelcontextprotocol/protocolVersion": "2026-07-28",
     "io.modelcontextprotocol/clientInfo": {"name": "mcp-tester", "version": "0.1.0"},
@@ -160,6 +160,6 @@ def test_feeler_builds_the_example_envelope() -> None:
     from feeler.transport.inprocess import InProcessTransport
 
     session = Session(InProcessTransport("x", INPROCESS), revision=MODERN)
-    params = session.params({"name": "get_weather", "arguments": {"location": "New York"}}, revision=MODERN)
+    params = session.params({"name": "quote_fee", "arguments": {"length_m": 9.5, "nights": 2}}, revision=MODERN)
     assert set(params["_meta"]) == set(META_2026)
     validate_client_request("tools/call", MODERN, params)  # mcp-types methods, 2026-07-28

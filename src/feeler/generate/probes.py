@@ -3,7 +3,7 @@
 These break the JSON-RPC envelope or the ``tools/call`` request shape rather than a tool's schema,
 so they are written as text: a probe line need not be valid JSON. Which probes apply depends on the
 revision: batches are allowed only in 2025-03-26; 2026-07-28 requests carry the per-request
-``_meta`` envelope (MCP 2026-07-28 basic/index). See /work/shared/PROTOCOL.md sections 3.2, 4, 5.4.
+``_meta`` envelope (MCP 2026-07-28 basic/index). See the protocol digest (shared/PROTOCOL.md beside the repository), sections 3.2, 4, 5.4.
 """
 
 from __future__ import annotations
