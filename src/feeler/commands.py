@@ -2,36 +2,18 @@
 
 from __future__ import annotations
 
-import os
 import sys
-import tempfile
 from typing import Any
 
 import click
 
+from feeler._files import write_text_atomic
 from feeler.catalog import Catalog
 from feeler.cli_options import ConnectOptions, target_options
 from feeler.connect import capture_catalog
 from feeler.errors import UsageError
 
-__all__ = ["catalog", "demo", "summary", "write_text_atomic"]
-
-
-def write_text_atomic(path: str, text: str) -> None:
-    """Write *text* to *path* through a temp file and a rename, so a crash never leaves half a file."""
-    folder = os.path.dirname(os.path.abspath(path))
-    os.makedirs(folder, exist_ok=True)
-    fd, tmp = tempfile.mkstemp(prefix=".feeler-", dir=folder)
-    try:
-        with os.fdopen(fd, "w", encoding="utf-8", newline="\n") as handle:
-            handle.write(text)
-        os.replace(tmp, path)
-    except BaseException:
-        try:
-            os.unlink(tmp)
-        except OSError:
-            pass
-        raise
+__all__ = ["catalog", "demo", "summary"]
 
 
 def summary(cat: Catalog) -> str:

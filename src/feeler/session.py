@@ -279,8 +279,8 @@ class Session:
     def headers_for(self, message: Any, *, revision: str | None = None) -> dict[str, str]:
         """HTTP headers a message needs (MCP 2025-06-18 and 2026-07-28 basic/transports)."""
         rev = revision or self.revision
-        if rev is None:
-            return {}
+        if rev is None or not self.transport.takes_headers:
+            return {}  # stdio and in-process have no headers: nothing to compute on their hot path
         headers = {"MCP-Protocol-Version": rev}
         if era_of(rev) != "modern" or not isinstance(message, dict) or "method" not in message:
             return headers

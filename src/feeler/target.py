@@ -12,17 +12,20 @@ environment variable that holds it (``--bearer-env``).
 
 from __future__ import annotations
 
+import hashlib
 import os
 import re
 import shlex
+import urllib.parse
 from collections.abc import Mapping, Sequence
 from dataclasses import dataclass, field
+from pathlib import Path
 from typing import Any
 
 from feeler.errors import UsageError
 from feeler.transport.base import DEFAULT_MAX_MESSAGE_BYTES, Transport
 
-__all__ = ["Target"]
+__all__ = ["Target", "target_slug"]
 
 _MODULE_ATTR = re.compile(r"^[A-Za-z_][\w]*(\.[A-Za-z_]\w*)*:[A-Za-z_]\w*(\.[A-Za-z_]\w*)*$")
 _LOOKS_MODULE_ATTR = re.compile(r"^[^\s/\\]*:[^\s/\\]*$")
@@ -93,21 +96,24 @@ class Target:
         return cls(kind="stdio", command=command, **extra)
 
     @property
-    def name(self) -> str:
-        """A short display name, used in every message about this target."""
+    def spec(self) -> str:
+        """The target written as one string, in full (what ``Target.parse`` reads back)."""
         if self.kind == "stdio":
-            text = shlex.join(self.command)
-            # keep the end (the script) visible: long interpreter paths are the boring part
-            return text if len(text) <= 200 else text[:60] + "..." + text[-137:]
+            return shlex.join(self.command)
         if self.kind == "inprocess":
             return str(self.module)
         return f"sse+{self.url}" if self.kind == "sse" else str(self.url)
 
+    @property
+    def name(self) -> str:
+        """A short display name, used in every message about this target."""
+        text = self.spec
+        # keep the end (the script) visible: long interpreter paths are the boring part
+        return text if len(text) <= 200 else text[:60] + "..." + text[-137:]
+
     def slug(self) -> str:
-        """A file-system-safe name for this target (baseline folders, replay files)."""
-        text = re.sub(r"^(sse\+)?https?://", "", self.name)
-        text = re.sub(r"[^A-Za-z0-9._-]+", "-", text).strip("-.")
-        return text[:80] or "target"
+        """A file-system-safe name for this target, without secrets (baseline folders, replay files)."""
+        return target_slug(self.spec)
 
     def transport(self, *, max_message_bytes: int = DEFAULT_MAX_MESSAGE_BYTES) -> Transport:
         """Build (but do not open) the transport for this target."""
@@ -167,3 +173,25 @@ class Target:
             env=env,
             bearer_env=data.get("bearerEnv"),
         )
+
+
+def target_slug(target: str) -> str:
+    """A folder name for *target* that carries no secret: URLs lose user info, query and fragment.
+
+    ``http://127.0.0.1:8000/mcp?token=x`` -> ``127.0.0.1-8000-mcp``;
+    ``feeler.demo.server:server`` -> ``feeler.demo.server-server``;
+    ``python servers/shop.py --port 1`` -> ``python-shop.py-port-1``.
+    """
+    text = target.strip()
+    parsed = urllib.parse.urlsplit(text)
+    if parsed.scheme in ("http", "https", "sse+http", "sse+https") and parsed.hostname:
+        text = f"{parsed.hostname}-{parsed.port or ''}-{parsed.path}"
+    else:
+        text = " ".join(Path(tok).name if "/" in tok or "\\" in tok else tok for tok in text.split())
+    slug = re.sub(r"[^A-Za-z0-9._]+", "-", text).strip("-.").lower()
+    slug = re.sub(r"-{2,}", "-", slug)
+    if not slug:
+        slug = "target"
+    if len(slug) > 60:
+        slug = slug[:50].rstrip("-") + "-" + hashlib.sha256(text.encode()).hexdigest()[:8]
+    return slug

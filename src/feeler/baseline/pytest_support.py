@@ -34,7 +34,7 @@ def check_catalog_against_baseline(
     from feeler.diff.outputs import OutputMasks, compare_outputs
 
     cfg = config or {}
-    store = BaselineStore(folder, target.name)
+    store = BaselineStore(folder, target.spec)
     if approve:
         if is_worker or not is_writer():
             return []  # the controller process writes; workers only compare
@@ -56,7 +56,7 @@ def check_catalog_against_baseline(
         problems += [
             f"the catalog differs from the approved baseline {store.catalog_path} "
             f"({len(report.changes)} changes, {len(breaking)} breaking; if intended, approve it with "
-            f"`feeler approve {target.name}` or pytest --feeler-approve)",
+            f"`feeler approve {target.spec}` or pytest --feeler-approve)",
             render(report, "text"),
         ]
     if session is not None and store.outputs_path.exists():

@@ -17,13 +17,10 @@ from __future__ import annotations
 
 import contextlib
 import datetime as _dt
-import hashlib
 import json
 import os
-import re
 import tempfile
 import time
-import urllib.parse
 import warnings
 from collections.abc import Iterable, Iterator, Mapping
 from pathlib import Path
@@ -32,6 +29,7 @@ from typing import Any
 from feeler._json import canonical_dumps
 from feeler.catalog import Catalog
 from feeler.errors import BaselineError, UsageError
+from feeler.target import target_slug
 
 __all__ = [
     "BASELINE_FORMAT",
@@ -57,28 +55,6 @@ FIX = "restore it from git or run `feeler approve` to write it again"
 
 class BaselineWarning(UserWarning):
     """A baseline could not be read and is treated as missing (storage never breaks a run)."""
-
-
-def target_slug(target: str) -> str:
-    """A folder name for *target* that carries no secret: URLs lose user info, query and fragment.
-
-    ``http://127.0.0.1:8000/mcp?token=x`` -> ``127.0.0.1-8000-mcp``;
-    ``feeler.demo.server:server`` -> ``feeler.demo.server-server``;
-    ``python servers/shop.py --port 1`` -> ``python-shop.py-port-1``.
-    """
-    text = target.strip()
-    parsed = urllib.parse.urlsplit(text)
-    if parsed.scheme in ("http", "https") and parsed.hostname:
-        text = f"{parsed.hostname}-{parsed.port or ''}-{parsed.path}"
-    else:
-        text = " ".join(Path(tok).name if "/" in tok or "\\" in tok else tok for tok in text.split())
-    slug = re.sub(r"[^A-Za-z0-9._]+", "-", text).strip("-.").lower()
-    slug = re.sub(r"-{2,}", "-", slug)
-    if not slug:
-        slug = "target"
-    if len(slug) > 60:
-        slug = slug[:50].rstrip("-") + "-" + hashlib.sha256(text.encode()).hexdigest()[:8]
-    return slug
 
 
 def is_writer() -> bool:

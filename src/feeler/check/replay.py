@@ -13,6 +13,7 @@ from dataclasses import dataclass
 from datetime import datetime, timezone
 from typing import Any
 
+from feeler._files import write_text_atomic
 from feeler.catalog import Tool
 from feeler.check.findings import Finding
 from feeler.errors import TargetError, UsageError
@@ -25,8 +26,6 @@ REPLAY_FORMAT = "feeler-replay/1"
 
 def write_replay(folder: str, target: Target, finding: Finding) -> str:
     """Write the replay file of *finding* under *folder*/<target>/ and return its path."""
-    from feeler.commands import write_text_atomic
-
     data = {
         "format": REPLAY_FORMAT,
         "recorded": datetime.now(timezone.utc).strftime("%Y-%m-%dT%H:%M:%SZ"),

@@ -48,6 +48,8 @@ class Transport(ABC):
 
     #: short name of the transport kind, e.g. ``"stdio"``
     kind: str = "abstract"
+    #: whether ``send(headers=...)`` means anything (HTTP); the session skips computing them otherwise
+    takes_headers: bool = False
 
     def __init__(self, target: str, *, max_message_bytes: int = DEFAULT_MAX_MESSAGE_BYTES) -> None:
         self.target = target

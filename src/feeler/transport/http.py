@@ -103,6 +103,8 @@ class HTTPTransportBase(Transport):
     :param verify: verify TLS certificates (turn off only for a test server with a self-signed one).
     """
 
+    takes_headers = True
+
     def __init__(
         self,
         target: str,
