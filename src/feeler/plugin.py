@@ -84,6 +84,10 @@ def pytest_configure(config: pytest.Config) -> None:
                 targets[tgt.slug()] = tgt
     except FeelerError as exc:
         raise pytest.UsageError(f"feeler: {exc}") from None
+    if targets:  # SIGTERM/SIGHUP unwind like Ctrl-C, so pytest's teardown ends the servers
+        from feeler import _signals
+
+        _signals.install()
     plugin = FeelerPlugin(config, cfg, targets)
     config.stash[_plugin_key] = plugin
     config.pluginmanager.register(plugin, "feelerplugin")

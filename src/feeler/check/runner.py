@@ -341,11 +341,12 @@ class Runner:
         except _CaseFailed:
             pass
         except BaseException as exc:  # an exception group of several distinct failures, or our abort
-            if not all(isinstance(e, _CaseFailed) for e in getattr(exc, "exceptions", [exc])):
-                if isinstance(exc, (KeyboardInterrupt, SystemExit)):
-                    raise
-                if not isinstance(exc, _ToolAbandoned):
-                    raise
+            # (a flaky server, e.g. one that is only sometimes slow, gives hypothesis a FlakyFailure group
+            # of our own exceptions: that is the server's behaviour, already recorded as findings)
+            if isinstance(exc, (KeyboardInterrupt, SystemExit)) or not all(
+                isinstance(e, (_CaseFailed, _ToolAbandoned)) for e in _leaves(exc)
+            ):
+                raise
 
     def _nogo(self, tool: Tool, stats: ToolStats) -> None:
         from feeler.generate import nogo_cases
@@ -486,6 +487,14 @@ class Runner:
         for finding in self.report.findings:
             if finding.request_text:
                 finding.replay = write_replay(self.options.replay_dir, self.target, finding)
+
+
+def _leaves(exc: BaseException, depth: int = 0) -> list[BaseException]:
+    """The non-group exceptions inside *exc* (nested exception groups flattened, bounded depth)."""
+    inner = getattr(exc, "exceptions", None)
+    if not inner or depth > 20:
+        return [exc]
+    return [leaf for e in inner for leaf in _leaves(e, depth + 1)]
 
 
 class _ToolAbandoned(Exception):
