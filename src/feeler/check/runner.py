@@ -59,6 +59,11 @@ class RunOptions:
     max_timeouts_per_tool: int = 2
     alive_timeout: float = 5.0
     dry_run: bool = False
+    #: learn values from answers (and run the discovery pass); see feeler.world.state
+    learn: bool = True
+    #: chain runs (hypothesis stateful examples) and the most steps in one; 0 runs: no chain phase
+    chain_runs: int = 20
+    chain_steps: int = 8
 
 
 @dataclass
@@ -82,6 +87,10 @@ class ToolStats:
     #: the explicit cases sent (boundary go and no-go), kept to compute keyword coverage
     cases: list[Any] = field(default_factory=list, repr=False)
     coverage: list[Any] = field(default_factory=list)
+    #: go cases by value source: {"learned": {"calls": 3, "entered": 2}, ...}
+    go_by_source: dict[str, dict[str, int]] = field(default_factory=dict)
+    #: entered go cases per provenance of a learned value ("list_roots /structuredContent/roots/0": 2)
+    learned_from: dict[str, int] = field(default_factory=dict)
 
     def coverage_summary(self) -> dict[str, Any]:
         """How many schema keywords (by location) got a go and a no-go case, and which got none, why."""
@@ -171,6 +180,7 @@ class Runner:
         self.report = RunReport(target=target)
         self.session: Session | None = None
         self.server_probes_sent: set[str] = set()  # server-wide probes go once per run, not once per tool
+        self._world: Any = None
         settings = self.options.settings
         if not settings.secrets:
             settings = CheckSettings(settings.strict_go, settings.latency_budget, secret_values(dict(target.env)))
@@ -204,6 +214,23 @@ class Runner:
             return False
         return True
 
+    @property
+    def world(self) -> Any:
+        """The run's :class:`feeler.world.state.World` (value pool, learning, chains)."""
+        if self._world is None:
+            from feeler.world.state import World
+
+            self.open()
+            assert self.report.catalog is not None
+            self._world = World(self.report.catalog.tool_list(), learn=self.options.learn)
+        return self._world
+
+    def run_chains(self) -> list[Finding]:
+        """The chain phase (sequences of calls linked by returned values); returns its new findings."""
+        if self.options.dry_run or self.options.chain_runs <= 0:
+            return []
+        return self.world.chains(self, runs=self.options.chain_runs, steps=self.options.chain_steps)
+
     def __enter__(self) -> Runner:
         self.open()
         return self
@@ -219,6 +246,7 @@ class Runner:
             assert self.report.catalog is not None
             for tool in self.tools():
                 self.run_tool(tool)
+            self.run_chains()
         finally:
             self.close()
         self._write_replays()
@@ -260,6 +288,8 @@ class Runner:
             stats.skipped = reason
         elif stats.schema_problem is None:
             if "go" in kinds:
+                if not self.options.dry_run:
+                    self.world.discover(self)
                 self._go(tool, stats)
             if "no-go" in kinds:
                 self._nogo(tool, stats)
@@ -373,6 +403,7 @@ class Runner:
             if collect:
                 raise _ToolAbandoned(tool.name)
             return False
+        case = self.world.offer(tool, case)
         ctx = CallContext(case.kind, tool, self.revision, self.era, self.settings, case=case)
         try:
             session = self.open()
@@ -389,6 +420,7 @@ class Runner:
         except TargetError as exc:
             ctx.failure = exc
         self._count(stats, ctx)
+        self.world.after_call(tool, case, ctx, stats)
         failed = self._evaluate(ctx)
         alive_failed = self._alive(tool, case)
         if alive_failed or isinstance(ctx.failure, ServerExited):
