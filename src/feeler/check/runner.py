@@ -229,6 +229,7 @@ class Runner:
         """The chain phase (sequences of calls linked by returned values); returns its new findings."""
         if self.options.dry_run or self.options.chain_runs <= 0:
             return []
+        self.world.discover(self)
         return self.world.chains(self, runs=self.options.chain_runs, steps=self.options.chain_steps)
 
     def __enter__(self) -> Runner:

@@ -223,7 +223,7 @@ def _tokens(text: str, place: str, context: frozenset[str], budget: list[int]) -
     for match in _ID_TOKEN.finditer(text):
         found.setdefault(match.group(0), "id")
     for match in _PATH_TOKEN.finditer(text):
-        token = match.group(0).rstrip("/") or match.group(0)
+        token = match.group(0).rstrip("/.,;:") or match.group(0)
         if len(token) > 1:
             found.setdefault(token, "path")
     for match in _QUOTED.finditer(text):
