@@ -361,6 +361,8 @@ class Runner:
         """One hint instead of a wall of go refusals when every go case was refused with one message."""
         from feeler.world.guidance import gate_hint
 
+        if not any(check.name == "values_needed" for check in self.checks):
+            return  # the hint is not wanted (--skip-check values_needed): every refusal stays a finding
         stats.world.hint = gate_hint(tool, stats.world, stats.go_calls)
         if stats.world.hint:
             self.report.findings.drop(

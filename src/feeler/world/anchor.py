@@ -116,6 +116,7 @@ class ToolWorld:
     entered_by_source: Counter[str] = field(default_factory=Counter)
     refusals: Counter[str] = field(default_factory=Counter)
     first_refusal: dict[str, str] = field(default_factory=dict)
+    #: go cases the tool refused with an ``isError`` result
     go_refused: int = 0
     nogo: Counter[str] = field(default_factory=Counter)
     hint: str | None = None
@@ -130,8 +131,8 @@ class ToolWorld:
             if text not in self._seen and len(self.entered) < MAX_KEPT:
                 self._seen.add(text)
                 self.entered.append(case.arguments)
-        elif result == "stopped":
-            self.go_refused += 1
+        elif result == "stopped" and exchange.error is None:
+            self.go_refused += 1  # refused by the tool (isError); a -32602 stays a go_enters finding
             message = refusal_text(exchange)
             shape = _shape(message)
             if shape in self.refusals or len(self.refusals) < _MAX_REFUSALS:
@@ -171,6 +172,14 @@ class ToolWorld:
         """Share of no-go verdicts that say something about the keyword (stopped on an entered base, or entered)."""
         judged = self.nogo["stopped"] + self.nogo["entered"] + self.nogo["unattributed"]
         return (self.nogo["stopped"] + self.nogo["entered"]) / judged if judged else None
+
+    def summary_text(self) -> str:
+        """One line for the text report: go cases entered by source, no-go verdicts, attributable share."""
+        sources = ", ".join(f"{k} {v}" for k, v in sorted(self.entered_by_source.items())) or "none"
+        share = self.attributable_share()
+        verdicts = ", ".join(f"{self.nogo[k]} {k}" for k in ("stopped", "unattributed", "entered") if self.nogo[k])
+        tail = f"; no-go: {verdicts} ({share:.0%} attributable)" if share is not None else ""
+        return f"entered by source: {sources}{tail}"
 
     def summary(self) -> dict[str, Any]:
         """The JSON form (camelCase keys)."""

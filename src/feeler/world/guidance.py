@@ -1,6 +1,6 @@
 """Guidance instead of noise: when a tool refuses every go case with one message, say what to give.
 
-A tool that refuses every valid-looking call with the same words ("outside the allowed root", "not
+A tool that refuses every valid-looking call (``isError``) with the same words ("outside the allowed root", "not
 found") is most often waiting for a value from its world, not broken. :func:`gate_hint` turns that
 into one hint that quotes the message and names the property to give a value for, and the runner then
 drops the per-case go refusals of that tool (the hint replaces them, and ``gate_opens`` stays quiet).
