@@ -119,11 +119,14 @@ class FeelerPlugin:
     def options(self) -> Any:
         from feeler.check.registry import CheckSettings
         from feeler.check.runner import RunOptions
+        from feeler.world.known import known_pool
 
         cfg, config = self.cfg, self.config
         seed = config.getoption(OPT_SEED)
+        seed = seed if seed is not None else cfg.get("seed", 0)
         return RunOptions(
-            seed=seed if seed is not None else cfg.get("seed", 0),
+            values=known_pool((), cfg.get("values"), cfg.get("values_hook"), seed=seed),
+            seed=seed,
             go_examples=cfg.get("go_examples", PROFILES[self.profile]["go_examples"]),
             include=list(cfg.get("include", [])),
             exclude=list(cfg.get("exclude", [])),

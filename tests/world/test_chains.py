@@ -49,4 +49,4 @@ def test_read_your_writes_defect_is_a_shrunk_chain_finding_that_replays(tmp_path
     assert json.loads(outcome.request)["params"]["name"] == chain[0].tool
     # Tool by tool the server shows nothing wrong (learned ids open read_record: a success result) ...
     assert not [f for f in report.findings if f.kind != "chain" and f.severity == "error"]
-    assert report.tools["read_record"].go_by_source["learned"]["entered"] > 0
+    assert report.tools["read_record"].world.entered_by_source["learned"] > 0

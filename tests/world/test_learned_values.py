@@ -25,8 +25,7 @@ def test_listing_roots_open_the_read_tools_with_no_configuration() -> None:
     report = Runner(target, options).run()
     for name in ("read_text", "stat_path"):
         stats = report.tools[name]
-        learned = stats.go_by_source.get("learned", {})
-        assert learned.get("entered", 0) > 0, (name, stats.go_by_source)
+        assert stats.world.entered_by_source["learned"] > 0, (name, stats.world.entered_by_source)
         assert stats.learned_from and all(p.startswith("list_roots /structuredContent/roots/") for p in stats.learned_from)
         # Without learning every read go case is refused ("outside the allowed roots").
     off = Runner(target, RunOptions(go_examples=3, probes=False, replay_dir=None, chain_runs=0, learn=False)).run()

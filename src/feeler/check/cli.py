@@ -42,6 +42,8 @@ def _list_checks(ctx: click.Context, _param: click.Parameter, value: bool) -> No
 @target_options
 @click.option("--seed", type=int, default=None, help="Seed for generated cases (default 0: the same cases every run).")
 @click.option("--go-examples", type=click.IntRange(min=0), default=None, help="Drawn go cases per tool, besides the boundary cases [20].")
+@click.option("--value", "values", multiple=True, metavar="[TOOL:]PROPERTY=JSON",
+              help="A value from the server's world for a property or $.path (repeatable; a JSON list: one of these).")
 @click.option("--include", multiple=True, metavar="PATTERN", help="Only tools matching this glob (repeatable).")
 @click.option("--exclude", multiple=True, metavar="PATTERN", help="Skip tools matching this glob (repeatable).")
 @click.option("--allow-destructive", is_flag=True, help="Also call tools annotated destructiveHint: true.")
@@ -81,7 +83,12 @@ def check(**kwargs: Any) -> int:
         opts = ConnectOptions(kwargs)
     if opts.session["revision"] is None and config.get("revision"):
         opts.session["revision"] = config.get("revision")
+    from feeler.world.known import known_pool
+
+    seed = kwargs["seed"] if kwargs["seed"] is not None else config.get("seed", 0)
+    pool = known_pool(kwargs["values"], config.get("values"), config.get("values_hook"), seed=seed)
     options = RunOptions(
+        values=pool,
         seed=kwargs["seed"] if kwargs["seed"] is not None else config.get("seed", 0),
         go_examples=kwargs["go_examples"] if kwargs["go_examples"] is not None else config.get("go_examples", 20),
         include=list(kwargs["include"]) or list(config.get("include", [])),

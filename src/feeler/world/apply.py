@@ -22,6 +22,8 @@ The API is small on purpose (other parts of feeler, e.g. learning from answers, 
   Locations in *keep* (and everything below them) are never touched: the place a boundary or
   no-go case exercises stays as generated.
 * :func:`with_values` does that for a :class:`~feeler.generate.Case` and records the case's source.
+  :data:`CASE_SOURCES` are the sources offered to every generated case; schema hints (``schema``) go
+  only into the base cases (:func:`feeler.world.plan.base_cases`), so sampled cases keep their variety.
 * :func:`case_source` reads a case's value source (``schema``, ``known``, ``learned``, ``chain``,
   ``sampled``) whatever the generator called it.
 """
@@ -36,21 +38,25 @@ from typing import Any
 from feeler.generate import ToolSchema, compile_schema
 from feeler.world.values import SOURCES, Value, ValuePool, pointer_of
 
-__all__ = ["Applied", "Slot", "apply_values", "case_source", "get_at", "put_at", "slots", "with_values"]
+__all__ = ["CASE_SOURCES", "Applied", "Slot", "apply_values", "branches", "case_source", "get_at", "put_at", "slots", "with_values"]
 
 _COMBINATORS = ("allOf", "anyOf", "oneOf")
+#: the pool sources put into every boundary and sampled case
+CASE_SOURCES = ("known", "chain", "learned")
 #: generator names of a case's origin, mapped to the vocabulary's value sources
 _GENERATED = {"boundary": "schema", "hypothesis": "sampled", "drawn": "sampled"}
 
 
 @dataclass(frozen=True)
 class Slot:
-    """A place a value can go: ``pointer`` (``instanceLocation``), the property ``name``, its ``schema``."""
+    """A place a value can go: ``pointer`` (``instanceLocation``), the property ``name``, its ``schema``
+    (found at ``location``, a JSON Pointer into the schema document), and whether the instance has it."""
 
     pointer: str
     name: str
     schema: Any
     present: bool
+    location: str = ""
 
 
 @dataclass(frozen=True)
@@ -105,21 +111,22 @@ def put_at(instance: Any, pointer: str, value: Any) -> Any:
     raise KeyError(pointer)
 
 
-def _branches(ts: ToolSchema, node: Any, depth: int = 0) -> Iterator[dict]:
-    """*node* and the subschemas that apply at the same place (local ``$ref`` and combinator branches)."""
+def branches(ts: ToolSchema, node: Any, location: str = "", depth: int = 0) -> Iterator[tuple[dict, str]]:
+    """``(subschema, location)`` for *node* and the subschemas that apply at the same place (local
+    ``$ref`` targets and ``allOf``/``anyOf``/``oneOf`` branches)."""
     if not isinstance(node, dict) or depth > 8:
         return
-    yield node
+    yield node, location
     ref = node.get("$ref")
     if isinstance(ref, str):
         try:
-            target, _ = ts.resolve(ref)
+            target, at = ts.resolve(ref)
         except Exception:  # noqa: BLE001 - an unusable reference: the oracle refuses whatever we would do
-            target = None
-        yield from _branches(ts, target, depth + 1)
+            target, at = None, ""
+        yield from branches(ts, target, at, depth + 1)
     for key in _COMBINATORS:
-        for branch in node.get(key) or []:
-            yield from _branches(ts, branch, depth + 1)
+        for index, branch in enumerate(node.get(key) or []):
+            yield from branches(ts, branch, f"{location}/{key}/{index}", depth + 1)
 
 
 def slots(schema: Any, instance: Any) -> list[Slot]:
@@ -128,23 +135,23 @@ def slots(schema: Any, instance: Any) -> list[Slot]:
     out: list[Slot] = []
     seen: set[str] = set()
 
-    def visit(node: Any, value: Any, at: str, depth: int) -> None:
+    def visit(node: Any, location: str, value: Any, at: str, depth: int) -> None:
         if depth > 16:
             return
-        for branch in _branches(ts, node):
+        for branch, here in branches(ts, node, location):
             if isinstance(value, dict):
                 for name, sub in (branch.get("properties") or {}).items():
-                    where = f"{at}/{_escape(name)}"
+                    where, sub_at = f"{at}/{_escape(name)}", f"{here}/properties/{_escape(name)}"
                     if where not in seen:
                         seen.add(where)
-                        out.append(Slot(where, name, sub, name in value))
+                        out.append(Slot(where, name, sub, name in value, sub_at))
                     if name in value:
-                        visit(sub, value[name], where, depth + 1)
+                        visit(sub, sub_at, value[name], where, depth + 1)
             elif isinstance(value, list) and isinstance(branch.get("items"), dict):
                 for index, item in enumerate(value):
-                    visit(branch["items"], item, f"{at}/{index}", depth + 1)
+                    visit(branch["items"], f"{here}/items", item, f"{at}/{index}", depth + 1)
 
-    visit(ts.schema, instance, "", 0)
+    visit(ts.schema, "", instance, "", 0)
     return out
 
 
@@ -216,10 +223,12 @@ def _source_field(case: Any) -> str:
     return "source" if "source" in fields else "origin"
 
 
-def with_values(schema: Any, tool: str, case: Any, pool: ValuePool, *, pick: int = 0) -> Any:
-    """*case* (a :class:`~feeler.generate.Case`) with pool values put in, its source set to the most
-    trusted source used; the location the case exercises (its keyword's place) is kept as generated.
-    Returns *case* itself when no value went in."""
+def with_values(
+    schema: Any, tool: str, case: Any, pool: ValuePool, *, pick: int = 0, sources: Iterable[str] | None = None
+) -> Any:
+    """*case* (a :class:`~feeler.generate.Case`) with pool values (of *sources*, default all) put in, its
+    source set to the most trusted source used; the location the case exercises (its keyword's place)
+    is kept as generated. Returns *case* itself when no value went in."""
     keep: tuple[str, ...] = ()
     add = True
     if getattr(case, "keyword", None):
@@ -228,7 +237,7 @@ def with_values(schema: Any, tool: str, case: Any, pool: ValuePool, *, pick: int
         # A keyword on an object or array (required, minProperties, maxItems...): values inside it may be
         # replaced, but nothing is added, so the shape the case exercises stays as generated.
         add = not isinstance(get_at(case.arguments, keep[0])[1], (dict, list))
-    applied = apply_values(schema, tool, case.arguments, pool, pick=pick, keep=keep, add=add)
+    applied = apply_values(schema, tool, case.arguments, pool, pick=pick, keep=keep, add=add, sources=sources)
     if applied.source is None:
         return case
     return dataclasses.replace(case, arguments=applied.arguments, **{_source_field(case): applied.source})

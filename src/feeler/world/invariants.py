@@ -10,12 +10,13 @@ Both read a :class:`ChainCase`, set by :mod:`feeler.world.chains` on each step o
 
 from __future__ import annotations
 
-import json
 from collections.abc import Iterator
 from dataclasses import dataclass
 from typing import Any
 
 from feeler.check.registry import CallContext, Problem, register
+from feeler.world.anchor import outcome as _outcome
+from feeler.world.anchor import refusal_text
 
 __all__ = ["ChainCase", "outcome"]
 
@@ -43,29 +44,14 @@ class ChainCase:
 
 
 def outcome(ctx: CallContext) -> str:
-    """``entered`` (a success result), ``stopped`` (``isError`` or -32602) or ``broke`` (anything else)."""
-    ex = ctx.exchange
-    if ctx.failure is not None or ex is None:
-        return "broke"
-    if ex.error is not None:
-        return "stopped" if ex.error.get("code") == -32602 else "broke"
-    if isinstance(ex.result, dict):
-        return "stopped" if ex.is_error_result else "entered"
-    return "broke"
+    """The call's outcome (:func:`feeler.world.anchor.outcome`): ``entered``, ``stopped`` or ``broke``."""
+    return _outcome(ctx.exchange, ctx.failure) or "broke"
 
 
 def _said(ctx: CallContext) -> str:
-    ex = ctx.exchange
     if ctx.failure is not None:
         return str(ctx.failure)
-    if ex is None:
-        return "no answer"
-    if ex.error is not None:
-        return f"error {ex.error.get('code')} {str(ex.error.get('message'))[:120]!r}"
-    content = ex.result.get("content") if isinstance(ex.result, dict) else None
-    if isinstance(content, list) and content and isinstance(content[0], dict):
-        return repr(str(content[0].get("text", ""))[:120])
-    return json.dumps(ex.result)[:120]
+    return repr(refusal_text(ctx.exchange)[:120]) if ctx.exchange is not None else "no answer"
 
 
 @register("read_your_writes", applies_to=("chain",), reference="common practice (read-your-writes consistency)")

@@ -5,21 +5,21 @@ about learning or chains):
 
 * :meth:`World.discover` once, before the first go case: the discovery pass calls the read-only tools
   that need no arguments (:func:`feeler.world.learn.listings`) so their answers seed the pool;
-* :meth:`World.offer` before each go case: the pool's values go in (:func:`feeler.world.apply.with_values`,
-  oracle-checked), and a case that got a learned value says where it came from in its ``note``;
-* :meth:`World.after_call` after each call: a successful answer is learned from, and counted by source;
+* :meth:`World.after_call` after each call: a successful answer is learned from (the runner's go
+  cases then get learned values like known ones, through :func:`feeler.world.apply.with_values`), and
+  an entered go case that carried learned values is counted by their provenance;
 * :meth:`World.chains` once at the end: the chain phase (:mod:`feeler.world.chains`).
 """
 
 from __future__ import annotations
 
-import dataclasses
 import json
 from collections.abc import Iterable
 from typing import TYPE_CHECKING, Any
 
 from feeler.catalog import Tool
-from feeler.world.apply import case_source, with_values
+from feeler.world.anchor import outcome
+from feeler.world.apply import CASE_SOURCES, case_source, with_values
 from feeler.world.learn import Learner, listings
 from feeler.world.values import ValuePool
 
@@ -44,10 +44,7 @@ class World:
     def __init__(self, tools: Iterable[Tool], *, pool: ValuePool | None = None, learn: bool = True) -> None:
         self.pool = pool if pool is not None else ValuePool()
         self.learner = Learner(self.pool, tools) if learn else None
-        #: arguments of go cases each tool accepted (the chains' bases), at most a few per tool
-        self.entered: dict[str, list[Any]] = {}
         self.discovered = False
-        self._offered = 0
 
     # -- the four hooks -------------------------------------------------------------------------
     def discover(self, runner: Runner) -> None:
@@ -63,34 +60,15 @@ class World:
             runner.progress(f"{tool.name}: discovery (no arguments)")
             runner._call_case(tool, runner.stats(tool), Case("go", None, "$", "", {}, None, "boundary", "discovery"))
 
-    def offer(self, tool: Tool, case: Any) -> Any:
-        """*case* with the pool's values put in where the oracle agrees; learned ones named in ``note``."""
-        if not len(self.pool) or getattr(case, "kind", None) != "go":
-            return case
-        self._offered += 1
-        new = with_values(tool.input_schema, tool.name, case, self.pool, pick=self._offered)
-        if new is case or case_source(new) != "learned":
-            return new
-        return dataclasses.replace(new, note=_provenance(self.pool, tool.name, case.arguments, new.arguments))
-
     def after_call(self, tool: Tool, case: Any, ctx: CallContext, stats: Any) -> None:
-        """Learn from a successful answer; count go cases by source (and learned ones by provenance)."""
+        """Learn from a successful answer; count entered go cases by the provenance of learned values."""
         ex = ctx.exchange
-        entered = ex is not None and isinstance(ex.result, dict) and not ex.is_error_result and ex.error is None
-        if getattr(case, "kind", None) == "go":
-            source = case_source(case)
-            counts = stats.go_by_source.setdefault(source, {"calls": 0, "entered": 0})
-            counts["calls"] += 1
-            if entered:
-                counts["entered"] += 1
-                if source == "learned" and getattr(case, "note", ""):
-                    for where in case.note.split("; "):
-                        stats.learned_from[where] = stats.learned_from.get(where, 0) + 1
-                bases = self.entered.setdefault(tool.name, [])
-                if len(bases) < _BASES_PER_TOOL and case.arguments not in bases:
-                    bases.append(case.arguments)
-        if entered and self.learner is not None:
-            self.learner.learn(tool.name, ex.result)  # type: ignore[union-attr]
+        if self.learner is None or outcome(ex, ctx.failure) != "entered":
+            return
+        if getattr(case, "kind", None) == "go" and case_source(case) == "learned":
+            for where in _provenance(self.pool, tool.name, case.arguments):
+                stats.learned_from[where] = stats.learned_from.get(where, 0) + 1
+        self.learner.learn(tool.name, ex.result)  # type: ignore[union-attr]
 
     def chains(self, runner: Runner, *, runs: int, steps: int) -> list[Finding]:
         """The chain phase over the tools that may be called; returns the chain findings."""
@@ -103,10 +81,10 @@ class World:
             stats = runner.stats(tool)
             if runner.skip_reason(tool) or stats.schema_problem or stats.timeouts >= runner.options.max_timeouts_per_tool:
                 continue
-            known = list(self.entered.get(tool.name, []))
+            known = list(stats.world.entered[:_BASES_PER_TOOL])
             if not known:
-                for case in go_cases(tool.input_schema, seed=runner.options.seed)[:_BASES_PER_TOOL]:
-                    offered = self.offer(tool, case)
+                for pick, case in enumerate(go_cases(tool.input_schema, seed=runner.options.seed)[:_BASES_PER_TOOL]):
+                    offered = with_values(tool.input_schema, tool.name, case, self.pool, pick=pick, sources=CASE_SOURCES)
                     if offered.arguments not in known:
                         known.append(offered.arguments)
             known.sort(key=lambda a: len(json.dumps(a, ensure_ascii=False, default=str)))  # shrinks to the smallest
@@ -133,21 +111,22 @@ class World:
         return out
 
 
-def _provenance(pool: ValuePool, tool: str, before: Any, after: Any) -> str:
-    """Where the learned values that changed *before* into *after* came from ("; "-joined)."""
+def _provenance(pool: ValuePool, tool: str, arguments: Any) -> list[str]:
+    """Where the learned values in *arguments* came from (their provenance in the pool)."""
     out: list[str] = []
 
-    def visit(old: Any, new: Any, pointer: str, name: str | None) -> None:
-        if isinstance(new, dict):
-            for key, sub in new.items():
-                esc = str(key).replace("~", "~0").replace("/", "~1")
-                visit(old.get(key) if isinstance(old, dict) else None, sub, f"{pointer}/{esc}", str(key))
-        elif new != old or type(new) is not type(old):
+    def visit(node: Any, pointer: str, name: str | None) -> None:
+        if isinstance(node, dict):
+            for key, sub in node.items():
+                visit(sub, f"{pointer}/{str(key).replace('~', '~0').replace('/', '~1')}", str(key))
+        elif isinstance(node, list):
+            for index, sub in enumerate(node[:50]):
+                visit(sub, f"{pointer}/{index}", name)
+        else:
             for value in pool.values_for(tool, pointer, name):
-                if value.value == new and value.source == "learned":
+                if value.source == "learned" and value.value == node and type(value.value) is type(node):
                     out.append(value.provenance)
                     return
 
-    visit(before, after, "", None)
-    return "; ".join(dict.fromkeys(out))
-
+    visit(arguments, "", None)
+    return list(dict.fromkeys(out))
