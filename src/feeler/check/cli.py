@@ -2,12 +2,13 @@
 
 from __future__ import annotations
 
+import math
 import sys
 from typing import Any
 
 import click
 
-from feeler.cli_options import ConnectOptions, target_options
+from feeler.cli_options import SECONDS, ConnectOptions, target_options
 from feeler.errors import UsageError
 
 __all__ = ["check", "replay_command"]
@@ -21,6 +22,8 @@ def _budgets(values: tuple[str, ...], config: dict[str, Any]) -> dict[str, float
             out[name if sep else "*"] = float(seconds)
         except ValueError:
             raise UsageError(f"--budget {value!r}: expected SECONDS or TOOL=SECONDS") from None
+        if not (math.isfinite(out[name if sep else "*"]) and out[name if sep else "*"] > 0):
+            raise UsageError(f"--budget {value!r}: the seconds must be a finite number above 0")
     return out
 
 
@@ -121,7 +124,7 @@ def check(**kwargs: Any) -> int:
 
 @click.command("replay")
 @click.argument("file", type=click.Path(dir_okay=False))
-@click.option("--timeout", type=click.FloatRange(min=0.1), default=30.0, show_default=True)
+@click.option("--timeout", type=SECONDS, default=30.0, show_default=True)
 def replay_command(file: str, timeout: float) -> int:
     """Send the request recorded in a replay FILE again and show the answer.
 

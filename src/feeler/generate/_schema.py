@@ -18,6 +18,7 @@ from jsonschema import Draft7Validator, Draft201909Validator, Draft202012Validat
 from jsonschema.exceptions import SchemaError, ValidationError
 from jsonschema.protocols import Validator
 
+from feeler._limits import check_schema_limits
 from feeler.errors import SchemaProblem
 from feeler.generate import _ecma
 
@@ -352,5 +353,6 @@ class ToolSchema:
 
 def compile_schema(schema: Any, *, name: str | None = None) -> ToolSchema:
     """Return *schema* compiled as a :class:`ToolSchema` (a :class:`ToolSchema` is returned as is)."""
+    check_schema_limits(schema, name=name)  # feeler._limits: depth, size, enum (a ToolSchema passes as is)
     return schema if isinstance(schema, ToolSchema) else ToolSchema(schema, name=name)
 
