@@ -13,7 +13,7 @@ from dataclasses import dataclass
 from datetime import datetime, timezone
 from typing import Any
 
-from feeler._files import write_text_atomic
+from feeler._files import read_json_file, write_text_atomic
 from feeler.catalog import Tool
 from feeler.check.findings import Finding
 from feeler.errors import TargetError, UsageError
@@ -41,13 +41,7 @@ def write_replay(folder: str, target: Target, finding: Finding) -> str:
 
 
 def load_replay(path: str) -> dict[str, Any]:
-    try:
-        with open(path, encoding="utf-8") as handle:
-            data = json.load(handle)
-    except OSError as exc:
-        raise UsageError(f"cannot read the replay file {path}: {exc.strerror}") from exc
-    except json.JSONDecodeError as exc:
-        raise UsageError(f"{path}:{exc.lineno}:{exc.colno}: the replay file is not valid JSON ({exc.msg})") from exc
+    data = read_json_file(path, "replay file")
     if not isinstance(data, dict) or data.get("format") != REPLAY_FORMAT:
         raise UsageError(f"{path}: not a feeler replay file (expected format {REPLAY_FORMAT!r})")
     for key in ("target", "request", "finding"):
