@@ -57,6 +57,7 @@ def _list_checks(ctx: click.Context, _param: click.Parameter, value: bool) -> No
 @click.option("--format", "fmt", type=click.Choice(["text", "json"]), default="text", show_default=True)
 @click.option("--replay-dir", default=None, help="Where replay files go [.feeler/replays].")
 @report_options
+@click.option("--call-log", default=None, metavar="FILE", help="Append one JSON line per tool call to FILE (see README, Call log).")
 @click.option("-v", "--verbose", is_flag=True, help="Show full arguments in findings.")
 def check(**kwargs: Any) -> int:
     """Call every tool of TARGET with go and no-go cases and check every answer.
@@ -74,6 +75,7 @@ def check(**kwargs: Any) -> int:
     verbose = kwargs.pop("verbose")
     every = kwargs.pop("every_revision")
     report_dir, report_formats = kwargs.pop("report_dir"), kwargs.pop("report_formats")
+    call_log = kwargs.pop("call_log")
     names = kwargs["target"]
     configured = config.targets()
     if len(names) == 1 and names[0] in configured:
@@ -109,7 +111,15 @@ def check(**kwargs: Any) -> int:
     from feeler.report.document import now_iso
 
     started, clock = now_iso(), time.monotonic()
-    report = Runner(opts.target, options, session_options=opts.session, progress=progress).run()
+    runner = Runner(opts.target, options, session_options=opts.session, progress=progress)
+    if call_log:
+        from feeler.campaign.calllog import CallLog
+
+        with CallLog(call_log) as log:
+            runner.on_call = log.hook
+            report = runner.run()
+    else:
+        report = runner.run()
     if options.dry_run:
         for call in report.planned:
             click.echo(f"{call.tool}\t{call.kind}\t{call.keyword or '-'}\t{call.path or '-'}\t{call.arguments!r}")
