@@ -10,6 +10,10 @@ Example::
     go_examples = 20
     output_masks = ["$.structuredContent.issuedAt"]
 
+    [tool.feeler.values]            # values from the server's world (feeler.world.known)
+    root = "/srv/data"
+    "read_file:limit" = [1, 10]
+
 Unknown keys and wrong types are errors that name the key, the value and what is expected.
 """
 
@@ -49,6 +53,8 @@ _KEYS: dict[str, tuple[tuple[type, ...], str]] = {
     "record_tools": ((list,), "a list of tool name patterns whose outputs are recorded (read-only tools always are)"),
     "record_per_tool": ((int,), "a whole number of pinned go cases recorded per tool"),
     "replay_dir": ((str,), "a folder"),
+    "values": ((dict,), "a table of [TOOL:]PROPERTY (or $.path) = value (a list: one of these)"),
+    "values_hook": ((str,), "\"package.module:function\" returning hypothesis strategies per property"),
 }
 
 

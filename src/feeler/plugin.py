@@ -7,6 +7,7 @@ test items per target x tool x kind::
     feeler::<target>::<tool>[go]              go cases must be accepted
     feeler::<target>::<tool>[no-go]           no-go cases must be rejected cleanly
     feeler::<target>::<tool>[protocol]        protocol-level no-go requests
+    feeler::<target>::chains                  call chains (sequences linked by returned values)
 
 They work with ``-k``, ``-x``, ``-n`` (pytest-xdist: each worker opens its own session) and
 ``--junitxml`` (findings are attached as properties). Hand-written tests get a connected session from
@@ -126,11 +127,14 @@ class FeelerPlugin:
     def options(self) -> Any:
         from feeler.check.registry import CheckSettings
         from feeler.check.runner import RunOptions
+        from feeler.world.known import known_pool
 
         cfg, config = self.cfg, self.config
         seed = config.getoption(OPT_SEED)
+        seed = seed if seed is not None else cfg.get("seed", 0)
         return RunOptions(
-            seed=seed if seed is not None else cfg.get("seed", 0),
+            values=known_pool((), cfg.get("values"), cfg.get("values_hook"), seed=seed),
+            seed=seed,
             go_examples=cfg.get("go_examples", PROFILES[self.profile]["go_examples"]),
             include=list(cfg.get("include", [])),
             exclude=list(cfg.get("exclude", [])),
@@ -198,6 +202,8 @@ class TargetCollector(pytest.Collector):
         for tool in runner.tools():
             for kind in _KINDS:
                 items.append(FeelerItem.from_parent(self, name=f"{tool.name}[{kind}]", tool=tool.name, kind=kind))
+        if runner.options.chain_runs > 0:
+            items.append(FeelerItem.from_parent(self, name="chains", tool=None, kind="chain"))
         return items
 
 
@@ -230,6 +236,9 @@ class FeelerItem(pytest.Item):
         if self.kind == "catalog":
             self._catalog(runner)
             return
+        if self.kind == "chain":
+            self._fail_on(runner.run_chains())
+            return
         tool = runner.report.catalog.tool(self.tool_name) if runner.report.catalog else None
         if tool is None:
             raise FeelerFailure(f"tool {self.tool_name!r} is no longer advertised")
@@ -241,6 +250,9 @@ class FeelerItem(pytest.Item):
             f for f in runner.report.findings
             if f.tool == self.tool_name and _kind_of(f.kind) == self.kind
         ]  # fmt: skip
+        self._fail_on(mine)
+
+    def _fail_on(self, mine: list[Any]) -> None:
         for finding in mine:
             self.user_properties.append(("feeler_finding", f"{finding.check}: {finding.message}"))
         errors = [f for f in mine if f.severity == "error"]

@@ -36,6 +36,8 @@ def write_replay(folder: str, target: Target, finding: Finding) -> str:
         "answer": finding.answer_text,
         "finding": {k: v for k, v in finding.to_json().items() if k != "replay"},
     }
+    if finding.extra.get("sequence"):
+        data["sequence"] = finding.extra["sequence"]  # a chain: every call, linked by earlier answers
     path = os.path.join(folder, target.slug(), f"{finding.check}-{finding.short_id}.json")
     write_text_atomic(path, json.dumps(data, indent=2, ensure_ascii=False, sort_keys=True) + "\n")
     return path
@@ -80,6 +82,17 @@ def replay(data: dict[str, Any], *, timeout: float = 30.0, target: Target | None
     session = open_session(tgt, revision=data.get("revision"), timeout=timeout)
     try:
         catalog = capture(session)
+        if data.get("sequence"):
+            from feeler.world.chains import replay_sequence
+
+            def make_ctx(chain_tool: Tool | None) -> CallContext:
+                settings = CheckSettings(secrets=secret_values(dict(tgt.env)))
+                return CallContext("chain", chain_tool, str(session.revision), str(session.era), settings)
+
+            request, answer, problems = replay_sequence(session, data, make_ctx, catalog, timeout)
+            wanted = finding.get("signature", "").split("|")[-1]
+            same = [p for p in problems if not wanted or p.error_class == wanted]
+            return ReplayOutcome(request, answer, bool(same), [p.message for p in problems])
         tool = None
         if finding.get("tool"):
             try:
