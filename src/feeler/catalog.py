@@ -164,8 +164,9 @@ class Catalog:
         for key in ("server", "capabilities"):
             if not isinstance(data.get(key) or {}, dict):
                 raise UsageError(f"{source}: {key!r} must be a JSON object")
-        if not isinstance(data.get("supportedRevisions") or [], list):
-            raise UsageError(f"{source}: 'supportedRevisions' must be a list")
+        revisions = data.get("supportedRevisions") or []
+        if not isinstance(revisions, list) or not all(isinstance(r, str) for r in revisions):
+            raise UsageError(f"{source}: 'supportedRevisions' must be a list of strings")
         return cls(
             revision=data["revision"],
             era=data["era"],

@@ -154,8 +154,9 @@ class Campaign:
         if self.options.fresh or not os.path.exists(self.state_path):
             self._start_afresh()
             return
-        with open(self.state_path, encoding="utf-8") as handle:
-            state = json.load(handle)
+        from feeler._read import read_json
+
+        state = read_json(self.state_path, what="the campaign state", fix="delete it or pass --fresh to start afresh")
         if state.get("format") != STATE_FORMAT or state.get("done"):
             self._start_afresh()
             return

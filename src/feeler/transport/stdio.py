@@ -17,6 +17,7 @@ from __future__ import annotations
 import atexit
 import itertools
 import os
+import select
 import selectors
 import shutil
 import signal
@@ -164,7 +165,8 @@ class StdioTransport(Transport):
         except OSError as exc:
             raise ConnectError(f"cannot start the server: {exc}", target=self.target) from exc
         _LIVE.add(self)
-        assert self.proc.stdout is not None and self.proc.stderr is not None
+        assert self.proc.stdin is not None and self.proc.stdout is not None and self.proc.stderr is not None
+        os.set_blocking(self.proc.stdin.fileno(), False)  # send() waits with select, bounded by its timeout
         self._stderr = _StderrTail(self.proc.stderr)
         self._selector = selectors.DefaultSelector()
         self._selector.register(self.proc.stdout.fileno(), selectors.EVENT_READ)
@@ -181,14 +183,36 @@ class StdioTransport(Transport):
 
     # -- wire ----------------------------------------------------------------------------------
     def send(self, text: str, *, headers: Mapping[str, str] | None = None, timeout: float = 30.0) -> None:
+        """Write one line, waiting at most *timeout* for the server to take it.
+
+        While the server's stdin is full its stdout is drained into the buffer: a server blocked writing
+        answers nobody reads would otherwise never read again, and both sides would wait forever.
+        """
         proc = self._require_open()
         data = (text if text.endswith("\n") else text + "\n").encode("utf-8")
+        assert proc.stdin is not None and proc.stdout is not None
+        fd_in, fd_out = proc.stdin.fileno(), proc.stdout.fileno()
+        deadline = time.monotonic() + timeout
+        view = memoryview(data)
         try:
-            assert proc.stdin is not None
-            view = memoryview(data)
             while view:
-                written = os.write(proc.stdin.fileno(), view)
-                view = view[written:]
+                try:
+                    view = view[os.write(fd_in, view):]
+                    continue
+                except BlockingIOError:
+                    pass
+                remaining = deadline - time.monotonic()
+                if remaining <= 0:
+                    raise RequestTimeout(f"the server took no input for {timeout:g}s (its stdin is full)",
+                                         target=self.target)
+                drain = not self._eof and len(self._buf) <= 2 * self.max_message_bytes
+                readable, _, _ = select.select([fd_out] if drain else [], [fd_in], [], remaining)
+                if readable:
+                    chunk = os.read(fd_out, _READ_CHUNK)
+                    if chunk:
+                        self._buf += chunk
+                    else:
+                        self._eof = True
         except (BrokenPipeError, ConnectionResetError, ValueError, OSError) as exc:
             raise self._exited("the server stopped reading its stdin") from exc
 
