@@ -80,15 +80,10 @@ def test_config_garbage_is_a_clear_error(depth: int, tmp_path: Path) -> None:
 
     path = tmp_path / "pyproject.toml"
 
-    def body(data: bytes) -> None:
-        path.write_bytes(data)
-        try:
-            config = load_config(str(path))
-            config.targets()
-        except FeelerError as exc:
-            _clear(exc)
+    def config() -> None:
+        load_config(str(path)).targets()
 
-    _run(depth, config_texts, body)
+    _fuzz_files(depth, [path], config_texts, config)
 
 
 # -- JSON files: baseline, catalog, replay ------------------------------------------------------------
@@ -107,6 +102,21 @@ json_files = st.one_of(
 )
 
 
+def _fuzz_files(depth: int, paths: list[Path], strategy: st.SearchStrategy[bytes], *readers: Callable[[], Any]) -> None:
+    """Write each example to every path in *paths*, then run each reader: a result or a clear error."""
+
+    def body(data: bytes) -> None:
+        for path in paths:
+            path.write_bytes(data)
+        for reader in readers:
+            try:
+                reader()
+            except FeelerError as exc:
+                _clear(exc)
+
+    _run(depth, strategy, body)
+
+
 @pytest.mark.parametrize("depth", DEPTHS)
 def test_baseline_garbage_is_a_clear_error(depth: int, tmp_path: Path) -> None:
     from feeler.baseline.store import BaselineStore
@@ -115,20 +125,11 @@ def test_baseline_garbage_is_a_clear_error(depth: int, tmp_path: Path) -> None:
     store = BaselineStore(tmp_path, "t")
     store.folder.mkdir(parents=True)
 
-    def body(data: bytes) -> None:
-        store.catalog_path.write_bytes(data)
-        store.outputs_path.write_bytes(data)
-        try:
-            catalog = store.read_catalog()
-            diff_catalogs(catalog, catalog, samples=2)
-        except FeelerError as exc:
-            _clear(exc)
-        try:
-            store.read_outputs()
-        except FeelerError as exc:
-            _clear(exc)
+    def catalog() -> None:
+        approved = store.read_catalog()
+        diff_catalogs(approved, approved, samples=2)
 
-    _run(depth, json_files, body)
+    _fuzz_files(depth, [store.catalog_path, store.outputs_path], json_files, catalog, store.read_outputs)
 
 
 @pytest.mark.parametrize("depth", DEPTHS)
@@ -138,15 +139,11 @@ def test_catalog_file_garbage_is_a_clear_error(depth: int, tmp_path: Path) -> No
 
     path = tmp_path / "catalog.json"
 
-    def body(data: bytes) -> None:
-        path.write_bytes(data)
-        try:
-            catalog, _ = load_side(str(path))
-            diff_catalogs(catalog, catalog, samples=2)
-        except FeelerError as exc:
-            _clear(exc)
+    def catalog() -> None:
+        loaded, _ = load_side(str(path))
+        diff_catalogs(loaded, loaded, samples=2)
 
-    _run(depth, json_files, body)
+    _fuzz_files(depth, [path], json_files, catalog)
 
 
 @pytest.mark.parametrize("depth", DEPTHS)
@@ -156,15 +153,7 @@ def test_replay_file_garbage_is_a_clear_error(depth: int, tmp_path: Path) -> Non
     path = tmp_path / "r.replay.json"
     replays = st.one_of(json_files, st.dictionaries(st.sampled_from(["format", "target", "request", "finding"]),
                                                     json_values).map(lambda d: json.dumps(d).encode()))
-
-    def body(data: bytes) -> None:
-        path.write_bytes(data)
-        try:
-            load_replay(str(path))
-        except FeelerError as exc:
-            _clear(exc)
-
-    _run(depth, replays, body)
+    _fuzz_files(depth, [path], replays, lambda: load_replay(str(path)))
 
 
 # -- server answers -------------------------------------------------------------------------------------
