@@ -56,6 +56,7 @@ FAULTS = [
     Fault("huge_answer", (1,), "exceeded the size cap", env={"FEELER_HUGE_MIB": "50"}, echo_tested=False,
           extra=("--max-message-bytes", "1048576"), slow=True),
     Fault("ignores_sigterm", (0,), "0 findings", env={"FEELER_LINGER_S": "60"}),
+    Fault("oversized_schemas", (1,), "nests more than 64 levels deep", extra=("--max-message-bytes", "16777216")),
     Fault("many_tools", (0,), "echo_1999", echo_tested=False, extra=("--include", "echo_1999")),
 ]
 
