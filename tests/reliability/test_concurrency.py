@@ -11,6 +11,7 @@
 from __future__ import annotations
 
 import json
+import os
 import subprocess
 import sys
 from pathlib import Path
@@ -19,6 +20,8 @@ from feeler.baseline.store import BaselineStore
 
 PY = sys.executable
 ROUNDS = 3
+#: as from a shell: not an xdist worker (those never write baselines)
+ENV = {k: v for k, v in os.environ.items() if k != "PYTEST_XDIST_WORKER"}
 FEELER = "import sys; from feeler.cli import run; sys.exit(run(sys.argv[1:]))"
 
 
@@ -34,8 +37,9 @@ def test_two_approvals_at_once_leave_one_whole_baseline(tmp_path: Path) -> None:
     for round_no in range(ROUNDS):  # bounded loop
         procs = [
             subprocess.Popen([PY, "-c", FEELER, "approve", f"{name}.json", "--yes", "--baselines", "baselines",
-                              "--name", "shared", "--revision", f"r{round_no}{name}"],
-                             cwd=tmp_path, stdout=subprocess.PIPE, stderr=subprocess.PIPE, start_new_session=True)
+                              "--name", "shared", "--source-ref", f"r{round_no}{name}"],
+                             cwd=tmp_path, stdout=subprocess.PIPE, stderr=subprocess.PIPE, start_new_session=True,
+                             env=ENV)
             for name in ("a", "b")
         ]
         results = [(p.wait(120), p.stderr.read().decode()) for p in procs]  # type: ignore[union-attr]
@@ -45,7 +49,7 @@ def test_two_approvals_at_once_leave_one_whole_baseline(tmp_path: Path) -> None:
         assert [code for code, _ in results] == [0, 0], results
         tools = [t.name for t in store.read_catalog().tool_list()]  # whole and readable, or this raises
         assert tools in (["tool_a"], ["tool_b"])
-        assert store.read_header()["revision"] in (f"r{round_no}a", f"r{round_no}b")
+        assert store.read_header()["sourceRef"] in (f"r{round_no}a", f"r{round_no}b")
         assert not list(store.folder.glob(".*.tmp")) and not (store.folder / ".feeler-write.lock").exists()
 
 

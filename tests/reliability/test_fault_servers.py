@@ -25,7 +25,7 @@ from feeler.cli import run
 
 pytestmark = pytest.mark.skipif(not os.path.isdir("/proc"), reason="needs /proc (Linux) to find leftovers")
 
-QUICK = ["check", "--timeout", "2", "--go-examples", "0", "--no-probes", "--replay-dir", "replays"]
+QUICK = ["check", "--timeout", "2", "--samples", "0", "--no-probes", "--replay-dir", "replays"]
 
 
 @dataclass
@@ -146,4 +146,34 @@ def test_feeler_stopped_mid_run_ends_its_server(tmp_path: Path, signum: int, cod
         left = left_running(run.tag)
         kill_all(left)
         run.kill()
+    assert left == {}, f"left running: {left}"
+
+
+def test_pytest_stopped_mid_run_ends_its_server(tmp_path: Path) -> None:
+    """The plugin's runs too: SIGTERM to pytest unwinds like Ctrl-C (pytest exit code 2, "interrupted"),
+    and the session teardown ends the server (pytest docs "Exit codes")."""
+    import subprocess
+    import sys
+
+    command = " ".join(server("hangs_on_call"))
+    (tmp_path / "pyproject.toml").write_text(f'[tool.feeler]\ntargets = {{ hang = {command!r} }}\ntimeout = 30\n')
+    tag = uuid.uuid4().hex
+    with open(tmp_path / "out.txt", "wb") as out:
+        proc = subprocess.Popen([sys.executable, "-m", "pytest", "-p", "no:cacheprovider", "-q", "-k", "echo"],
+                                cwd=tmp_path, stdout=out, stderr=subprocess.STDOUT, start_new_session=True,
+                                env={**os.environ, MARKER: tag})
+    try:
+        deadline = time.monotonic() + 60
+        while not any("hangs_on_call" in cmd for cmd in marked(tag).values()):  # bounded
+            assert time.monotonic() < deadline and proc.poll() is None, (tmp_path / "out.txt").read_text()[-2000:]
+            time.sleep(0.1)
+        time.sleep(1.5)  # into the calls: hangs_on_call never answers one
+        os.kill(proc.pid, signal.SIGTERM)
+        assert proc.wait(40) == 2, (tmp_path / "out.txt").read_text()[-2000:]
+    finally:
+        left = left_running(tag)
+        kill_all(left)
+        if proc.poll() is None:
+            os.killpg(proc.pid, signal.SIGKILL)
+            proc.wait(10)
     assert left == {}, f"left running: {left}"

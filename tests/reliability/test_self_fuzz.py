@@ -89,7 +89,10 @@ def test_config_garbage_is_a_clear_error(depth: int, tmp_path: Path) -> None:
 # -- JSON files: baseline, catalog, replay ------------------------------------------------------------
 
 def _catalog_like(value: Any) -> Any:
-    base = {"format": "feeler-catalog/1", "revision": "2025-11-25", "era": "handshake"}
+    base = {"format": "feeler-catalog/2", "protocolVersion": "2025-11-25", "era": "handshake"}
+    if isinstance(value, dict) and value.get("format") == "old":  # the older format, still read
+        base = {"format": "feeler-catalog/1", "revision": "2025-11-25", "era": "handshake"}
+        value = {k: v for k, v in value.items() if k != "format"}
     return {**base, **value} if isinstance(value, dict) else value
 
 
@@ -97,7 +100,8 @@ json_files = st.one_of(
     st.binary(max_size=300),
     json_values.map(lambda v: json.dumps(v).encode()),
     st.dictionaries(st.sampled_from(["tools", "prompts", "resources", "server", "capabilities", "baseline",
-                                     "supportedRevisions", "format"]), json_values, max_size=4)
+                                     "supportedRevisions", "supportedVersions", "protocolVersion", "format"]),
+                    st.one_of(st.just("old"), json_values), max_size=4)
     .map(_catalog_like).map(lambda v: json.dumps(v).encode()),
 )
 

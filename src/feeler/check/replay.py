@@ -54,12 +54,12 @@ def load_replay(path: str) -> dict[str, Any]:
     data = read_json(path, what="the replay file", fix="give a replay file written by `feeler check`")
     if data.get("format") not in (REPLAY_FORMAT, *OLD_REPLAY_FORMATS):
         raise UsageError(f"{path}: not a feeler replay file (expected format {REPLAY_FORMAT!r})")
-    if data["format"] in OLD_REPLAY_FORMATS:
-        data = _from_old_replay(data)
     for key, kind in (("target", dict), ("request", str), ("finding", dict)):
         if not isinstance(data.get(key), kind):
             raise UsageError(f"{path}: the replay file has no {key!r} {'object' if kind is dict else 'string'}; "
                              "write it again with `feeler check`")
+    if data["format"] in OLD_REPLAY_FORMATS:
+        data = _from_old_replay(data)
     return data
 
 
