@@ -231,7 +231,7 @@ class FeelerItem(pytest.Item):
         runner.run_tool(tool, kinds=(self.kind,))
         mine = [
             f for f in runner.report.findings
-            if f.tool == self.tool_name and _kind_of(f.kind) == self.kind
+            if self.tool_name in f.tools and _kind_of(f.kind) == self.kind
         ]  # fmt: skip
         for finding in mine:
             self.user_properties.append(("feeler_finding", f"{finding.check}: {finding.message}"))
@@ -244,6 +244,8 @@ class FeelerItem(pytest.Item):
 
         runner.open()
         findings_before = runner.report.findings.signatures()
+        if not runner.report.tools_audited:
+            runner.audit_catalog()  # the catalog-wide checks (names unique, size, near-duplicates)
         for tool in runner.tools():
             runner._evaluate(CallContext("catalog", tool, runner.revision, runner.era, runner.settings))
         new = [f for f in runner.report.findings if f.signature not in findings_before and f.severity == "error"]
