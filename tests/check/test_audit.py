@@ -88,8 +88,8 @@ def test_audit_runs_inside_check_and_only_catalog_checks_in_audit() -> None:
     """`feeler audit` refuses a check that needs calls; `feeler check` runs the audit checks too."""
     code, out, err = run_cli(["audit", "--only-check", "no_crash", "--", PY, str(SERVERS / "sloppy_catalog.py")])
     assert code == 2 and "looks at calls" in err
-    code, out, err = run_cli(["check", "--format", "json", "--go-examples", "0", "--no-probes", "--check", "schema_keywords",
-                              "--check", "tool_names_unique", "--", PY, str(SERVERS / "sloppy_catalog.py")])
+    code, out, err = run_cli(["check", "--format", "json", "--samples", "0", "--no-probes", "--only-check", "schema_keywords",
+                              "--only-check", "tool_names_unique", "--", PY, str(SERVERS / "sloppy_catalog.py")])
     found = {(f["check"], f["signature"].split("|")[-1]) for f in json.loads(out)["findings"]}
     assert ("schema_keywords", "mistaken:ge") in found and ("tool_names_unique", "duplicate") in found
 

@@ -47,7 +47,7 @@ def test_poisoned_text_check_on_a_live_catalog() -> None:
     """The check runs in the catalog kind of a real run: the SDK server advertises a poisoned tool."""
     from check_helpers import run_checks, script
 
-    report = run_checks(script("poisoned_catalog.py"), ["poisoned_text"], go_examples=0, timeout=20)
+    report = run_checks(script("poisoned_catalog.py"), ["poisoned_text"], samples=0, timeout=20)
     found = {(f.tool, f.error_class) for f in report.findings}
     assert ("tide_help", "sensitive-read:description") in found
     assert all(f.tool == "tide_help" for f in report.findings)

@@ -30,7 +30,7 @@ def test_fourteen_tools_same_probe_answer_is_one_finding() -> None:
     sys.path.insert(0, str(SERVERS))
     from fourteen_same_tools import NAMES
 
-    report = run_checks(script("fourteen_same_tools.py"), ["probe_answer"], probes=True, go_examples=0)
+    report = run_checks(script("fourteen_same_tools.py"), ["probe_answer"], probes=True, samples=0)
     findings = list(report.findings)
     per_tool = [f for f in findings if f.tool is not None]
     print(f"\nprobe findings: {len(per_tool)} for {len(NAMES)} tools")
@@ -58,7 +58,7 @@ def test_secrets_never_reach_an_artefact(tmp_path: Path, monkeypatch: pytest.Mon
     (tmp_path / "pyproject.toml").write_text('[tool.feeler]\nsecret_env = ["HARBOUR_DSN"]\n', encoding="utf-8")
     server = str(SERVERS / "leaks_secrets.py")
     replays = tmp_path / "replays"
-    common = ["--replay-dir", str(replays), "--go-examples", "2", "--", PY, server]
+    common = ["--replay-dir", str(replays), "--samples", "2", "--", PY, server]
 
     code_text, text_out, text_err = run_cli(["check", *common])
     code_json, json_out, json_err = run_cli(["check", "--format", "json", *common])
@@ -107,11 +107,11 @@ def test_path_the_user_gave_is_not_a_leak(tmp_path: Path) -> None:
     the user did not know; the same server run elsewhere does leak (common practice: OWASP error handling)."""
     server = str(SERVERS / "leaks_secrets.py")
     given = Target(kind="stdio", command=(PY, server), cwd=str(tmp_path))
-    report = run_checks(given, ["no_leaks"], go_examples=0)
+    report = run_checks(given, ["no_leaks"], samples=0)
     assert not [f for f in report.findings if f.error_class == "absolute-path"]
-    on_command_line = run_checks(Target(kind="stdio", command=(PY, server, "/srv/quay/data")), ["no_leaks"], go_examples=0)
+    on_command_line = run_checks(Target(kind="stdio", command=(PY, server, "/srv/quay/data")), ["no_leaks"], samples=0)
     assert not [f for f in on_command_line.findings if f.error_class == "absolute-path"]
     hidden = Target(kind="stdio", command=(PY, server), env={"HARBOUR_DATA": "/srv/quay/data"})
-    elsewhere = run_checks(hidden, ["no_leaks"], go_examples=0, settings=CheckSettings())
+    elsewhere = run_checks(hidden, ["no_leaks"], samples=0, settings=CheckSettings())
     leaks = [f for f in elsewhere.findings if f.error_class == "absolute-path"]
     assert leaks and "/srv/quay/data" in leaks[0].message

@@ -21,8 +21,8 @@ _LABEL = {
 
 def _where(c: Change) -> str:
     parts = [c.subject or "-", c.direction.value]
-    if c.instance_path:
-        parts.append(f"at {c.instance_path}")
+    if c.instance_location:
+        parts.append(f"at {c.instance_location}")
     return " ".join(parts)
 
 
@@ -40,7 +40,7 @@ def text(report: DiffReport) -> str:
     lines = [f"feeler diff: {report.old_label} -> {report.new_label}"]
     for c in report.changes:
         label = _LABEL[c.verdict] + (", blocks release" if c.blocks else "")
-        lines.append(f"  [{label}] {_where(c)}: {c.message} ({c.kind}, {c.bump})")
+        lines.append(f"  [{label}] {_where(c)}: {c.message} ({c.rule}, {c.bump})")
         if c.hint:
             lines.append(f"      hint: {c.hint}")
         if c.has_witness:
@@ -66,7 +66,7 @@ def markdown(report: DiffReport) -> str:
         lines += ["| verdict | subject | direction | where | change | bump |", "|---|---|---|---|---|---|"]
         for c in report.changes:
             lines.append(f"| {_LABEL[c.verdict]} | `{_md_cell(c.subject)}` | {c.direction.value} | "
-                         f"`{_md_cell(c.instance_path or '-')}` | {_md_cell(c.message)} | {c.bump} |")
+                         f"`{_md_cell(c.instance_location or '-')}` | {_md_cell(c.message)} | {c.bump} |")
         proofs = [c for c in report.changes if c.has_witness or c.reason or c.hint]
         if proofs:
             lines += ["", "<details><summary>Witnesses and reasons</summary>", ""]
