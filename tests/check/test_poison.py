@@ -47,7 +47,7 @@ def test_poisoned_text_check_on_a_live_catalog() -> None:
     """The check runs in the catalog kind of a real run: the SDK server advertises a poisoned tool."""
     from check_helpers import run_checks, script
 
-    report = run_checks(script("poisoned_catalog.py"), ["poisoned_text"], samples=0, timeout=20)
+    report = run_checks(script("poisoned_catalog.py"), ["poisoned_text"], samples=0, timeout=60)
     found = {(f.tool, f.error_class) for f in report.findings}
     assert ("tide_help", "sensitive-read:description") in found
     assert all(f.tool == "tide_help" for f in report.findings)
@@ -69,8 +69,8 @@ def test_diff_gives_breaking_grade_review(new: str, breaking: bool) -> None:
     from feeler.diff.model import Verdict
 
     report = diff_catalogs(_catalog("Explain the tide table."), _catalog(new), samples=2)
-    assert [c.verdict for c in report.changes if c.kind == "tool-description"] == [Verdict.REVIEW]
-    poisoned = [c for c in report.changes if c.kind == "poisoned-description"]
+    assert [c.verdict for c in report.changes if c.rule == "tool-description"] == [Verdict.REVIEW]
+    poisoned = [c for c in report.changes if c.rule == "poisoned-description"]
     assert report.exit_code == (1 if breaking else 0)
     if breaking:
         (change,) = poisoned

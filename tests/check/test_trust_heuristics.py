@@ -41,7 +41,7 @@ def test_failure_heuristic_on_the_corpus() -> None:
 def test_sdk_crash_is_no_crash_without_strict_and_failure_as_success_warns() -> None:
     """The SDK hides the crash's text: "Error executing tool find_berths" alone is a no_crash error on a go
     case (no strict go needed); "Error: no such table" as a success result is a failure_as_success warning."""
-    report = run_checks(script("hides_failures.py"), ["no_crash", "failure_as_success"], samples=30, timeout=20)
+    report = run_checks(script("hides_failures.py"), ["no_crash", "failure_as_success"], samples=30, timeout=60)
     by = {(f.check, f.tool): f for f in report.findings}
     crash = by[("no_crash", "find_berths")]
     assert crash.severity == "error" and crash.error_class == "sdk-crash" and crash.kind == "go"

@@ -32,7 +32,7 @@ TOOLS = [
                   input_schema={"type": "object", "properties": {"day": {"type": "integer", "minimum": 1, "maximum": 7}},
                                 "required": ["day"], "additionalProperties": False}, annotations=READ),
 ]
-server = MCPServer("hides-failures", version="1.0.0", tools=TOOLS, log_level="CRITICAL")
+server = MCPServer("hides-failures", version="1.0.0", tools=TOOLS, log_level="WARNING")
 
 if __name__ == "__main__":
     server.run("stdio")

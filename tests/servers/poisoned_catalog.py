@@ -23,7 +23,7 @@ TOOLS = [
     declared_tool(tide_now, name="tide_now", annotations=READ, input_schema={"type": "object", "properties": {}},
                   description="The water level at the harbour mouth now."),
 ]
-server = MCPServer("poisoned-catalog", version="1.0.0", tools=TOOLS, log_level="CRITICAL")
+server = MCPServer("poisoned-catalog", version="1.0.0", tools=TOOLS, log_level="WARNING")
 
 if __name__ == "__main__":
     server.run("stdio")
