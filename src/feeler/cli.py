@@ -34,6 +34,8 @@ COMMANDS: dict[str, str] = {
     "demo": "feeler.commands:demo",
     "cases": "feeler.generate.cli:cases",
     "check": "feeler.check.cli:check",
+    "audit": "feeler.check.audit_cli:audit",
+    "auth": "feeler.check.audit_cli:auth",
     "replay": "feeler.check.cli:replay",
     "diff": "feeler.diff.cli:diff",
     "approve": "feeler.baseline.cli:approve",

@@ -264,7 +264,7 @@ class FeelerItem(pytest.Item):
         runner.run_tool(tool, kinds=(self.kind,))
         mine = [
             f for f in runner.report.findings
-            if f.tool == self.tool_name and f.kind == self.kind
+            if self.tool_name in f.tools and f.kind == self.kind
         ]  # fmt: skip
         self._fail_on(mine)
 
@@ -280,6 +280,8 @@ class FeelerItem(pytest.Item):
 
         runner.open()
         findings_before = runner.report.findings.signatures()
+        if not runner.report.tools_audited:
+            runner.audit_catalog()  # the catalog-wide checks (names unique, size, near-duplicates)
         for tool in runner.tools():
             runner._evaluate(CallContext("catalog", tool, runner.revision, runner.era, runner.settings))
         new = [f for f in runner.report.findings if f.signature not in findings_before and f.severity == "error"]
