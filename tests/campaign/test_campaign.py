@@ -18,7 +18,7 @@ from pathlib import Path
 from typing import Any
 
 import pytest
-from conftest import SERVER, TOOLS
+from campaign_helpers import SERVER, TOOLS
 
 from feeler.campaign import Campaign, CampaignOptions, open_example_db, parse_duration, parse_shard, read_call_log, shard_tools
 from feeler.check.runner import RunOptions, Runner
