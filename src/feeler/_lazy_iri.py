@@ -9,11 +9,8 @@ real module on first call and hands every call to it, so the checks themselves a
 
 from __future__ import annotations
 
-import importlib
-import importlib.util
 import sys
 import types
-from typing import Any
 
 __all__ = ["install"]
 
@@ -26,6 +23,8 @@ def _load() -> types.ModuleType:
     if _real is None:
         stand_in = sys.modules.pop(_NAME, None)
         try:
+            import importlib
+
             _real = importlib.import_module(_NAME)
         except BaseException:
             if stand_in is not None:
@@ -35,10 +34,14 @@ def _load() -> types.ModuleType:
 
 
 def _is_valid_syntax(term: str, value: str) -> bool:
-    return bool(_load().is_valid_syntax(term, value))
+    try:
+        real = _load()
+    except ImportError:
+        return True  # not installed: the value is not checked, as jsonschema does without the module
+    return bool(real.is_valid_syntax(term, value))
 
 
-def _getattr(name: str) -> Any:  # PEP 562: any other public name loads the real module
+def _getattr(name: str) -> object:  # PEP 562: any other public name loads the real module
     if name.startswith("__"):
         raise AttributeError(name)  # the import system asks for __path__, __spec__...: not a reason to load
     return getattr(_load(), name)
@@ -47,11 +50,6 @@ def _getattr(name: str) -> Any:  # PEP 562: any other public name loads the real
 def install() -> None:
     """Install the stand-in, unless jsonschema's format module or the real module is already loaded."""
     if _NAME in sys.modules or "jsonschema._format" in sys.modules:
-        return
-    try:
-        if importlib.util.find_spec(_NAME) is None:
-            return  # not installed: jsonschema skips the iri checkers, and so do we
-    except (ImportError, ValueError):
         return
     stand_in = types.ModuleType(_NAME, "feeler's stand-in: loads rfc3987_syntax on first use")
     stand_in.is_valid_syntax = _is_valid_syntax  # type: ignore[attr-defined]
