@@ -37,6 +37,7 @@ OPT_SEED = "--feeler-seed"
 OPT_REVISION = "--feeler-revision"
 OPT_APPROVE = "--feeler-approve"
 OPT_OFF = "--feeler-off"
+OPT_REPORT = "--feeler-report"
 
 #: Settings profiles: drawn go cases per tool, and whether failures are shrunk.
 PROFILES: dict[str, dict[str, Any]] = {
@@ -63,6 +64,9 @@ def pytest_addoption(parser: pytest.Parser) -> None:
     group.addoption(OPT_APPROVE, action="store_true", default=False,
                     help="Write the live catalog as the new approved baseline instead of comparing with it.")  # fmt: skip
     group.addoption(OPT_OFF, action="store_true", default=False, help="Add no feeler items even if targets are configured.")
+    group.addoption(OPT_REPORT, default=None, metavar="DIR",
+                    help="Write each target's reports (JSON, Markdown, JUnit XML, SARIF, HTML) into DIR/<target>[-<worker>]; "
+                    "join workers with `feeler report merge`.")  # fmt: skip
 
 
 def pytest_configure(config: pytest.Config) -> None:
@@ -150,7 +154,18 @@ class FeelerPlugin:
         for runner in self.runners.values():
             runner.close()
             runner._write_replays()
+            self._write_report(runner)
         self.runners.clear()
+
+    def _write_report(self, runner: Runner) -> None:
+        folder = self.config.getoption(OPT_REPORT, None)
+        if not folder or runner.report.catalog is None:
+            return
+        from feeler.report import build_report, write_reports
+
+        worker = getattr(self.config, "workerinput", {}).get("workerid")
+        name = runner.target.slug() + (f"-{worker}" if worker else "")
+        write_reports(build_report(runner.report, command="pytest"), os.path.join(folder, name))
 
     # -- collection ---------------------------------------------------------------------------------
     @pytest.hookimpl(tryfirst=True)
