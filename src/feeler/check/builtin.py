@@ -146,24 +146,20 @@ def go_accepted(ctx: CallContext) -> Iterator[Problem]:
         yield Problem(f"valid arguments{_where(ctx)} got isError: {text}", error_class="is-error")
 
 
-#: Keywords whose boundary go cases sit exactly on a promised limit (where off-by-one defects live).
-_BOUND_KEYWORDS = frozenset({
-    "minimum", "maximum", "exclusiveMinimum", "exclusiveMaximum", "multipleOf",
-    "minLength", "maxLength", "minItems", "maxItems", "minProperties", "maxProperties",
-})
-
-
 @register("bounds_honoured", applies_to=("go",), reference="JSON Schema 2020-12 validation sections 6.2-6.4")
 def bounds_honoured(ctx: CallContext) -> Iterator[Problem]:
-    """A value exactly on a bound the schema allows (minimum, maxLength...) is not refused with ``isError``."""
+    """A value exactly on a bound the schema allows (minimum, maxLength...) is not refused with ``isError``
+    when the same arguments one step inside the bound (the base) are accepted."""
+    from feeler.world.anchor import BOUND_KEYWORDS
+
     ex = ctx.exchange
-    case = ctx.case
-    if ex is None or case is None or getattr(case, "origin", None) != "boundary" or ctx.keyword not in _BOUND_KEYWORDS:
+    if ex is None or ctx.case is None or ctx.base != "entered" or ctx.keyword not in BOUND_KEYWORDS:
         return
     if ex.is_error_result:
         text = " ".join(_texts(ex.result))[:160]
         yield Problem(
-            f"the value on the bound{_where(ctx)} is allowed by the schema but the tool refused it: {text}",
+            f"the value on the bound{_where(ctx)} is allowed by the schema but the tool refused it, "
+            f"while it accepted the same arguments just inside the bound: {text}",
             error_class=f"bound:{ctx.keyword}",
         )
 
@@ -319,10 +315,19 @@ def latency(ctx: CallContext) -> Iterator[Problem]:
 def accepts_some_go(ctx: CallContext) -> Iterator[Problem]:
     """A tool accepts at least one of its go cases."""
     stats = ctx.stats
-    if stats is None or stats.go_calls == 0:
-        return
+    if stats is None or stats.go_calls == 0 or getattr(getattr(stats, "world", None), "hint", None):
+        return  # no go case, or one hint (values_needed) says what to give instead
     if stats.go_accepted == 0:
         yield Problem(f"rejected all {stats.go_calls} go cases (the schema promises more than the tool accepts)", error_class="rejects-all")
+
+
+@register("values_needed", applies_to=("tool",), reference="common practice: a tool that refuses every call with one message needs a value from its world")
+def values_needed(ctx: CallContext) -> Iterator[Problem]:
+    """When every go case of a tool is refused with the same message: one hint quoting it and naming the
+    property to give a value for (``--value PROPERTY=...``), instead of one finding per refused case."""
+    hint = getattr(getattr(ctx.stats, "world", None), "hint", None)
+    if hint:
+        yield Problem(hint, error_class="needs-value")
 
 
 # -- the advertised tool itself ----------------------------------------------------------------------
@@ -351,6 +356,22 @@ def schema_usable(ctx: CallContext) -> Iterator[Problem]:
 
         if output_validator(tool.output_schema) is None:
             yield Problem("the outputSchema is not a valid JSON Schema", error_class="output-schema-invalid")
+
+
+@register("examples_valid", applies_to=("catalog",), severity="warning", reference="JSON Schema 2020-12 validation 9.5 (examples); jsonschema")
+def examples_valid(ctx: CallContext) -> Iterator[Problem]:
+    """Every ``examples`` entry of the inputSchema is valid against the subschema it sits in."""
+    from feeler.errors import SchemaProblem
+    from feeler.world.hints import bad_examples
+
+    if ctx.tool is None:
+        return
+    try:
+        bad = bad_examples(ctx.tool.input_schema)
+    except SchemaProblem:
+        return  # schema_usable reports it
+    for location, value, message in bad:
+        yield Problem(f"the example {value!r} at {location} breaks its own schema: {message[:160]}", error_class=f"example:{location}")
 
 
 @register("tool_name", applies_to=("catalog",), severity="warning", reference="MCP 2025-11-25 server/tools (tool names, SHOULD)")

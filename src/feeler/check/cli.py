@@ -2,13 +2,14 @@
 
 from __future__ import annotations
 
+import math
 import sys
 import time
 from typing import Any
 
 import click
 
-from feeler.cli_options import ConnectOptions, target_options
+from feeler.cli_options import SECONDS, ConnectOptions, target_options
 from feeler.errors import UsageError
 from feeler.report.cli import report_options, write_from_options
 
@@ -23,6 +24,8 @@ def _budgets(values: tuple[str, ...], config: dict[str, Any]) -> dict[str, float
             out[name if sep else "*"] = float(seconds)
         except ValueError:
             raise UsageError(f"--budget {value!r}: expected SECONDS or TOOL=SECONDS") from None
+        if not (math.isfinite(out[name if sep else "*"]) and out[name if sep else "*"] > 0):
+            raise UsageError(f"--budget {value!r}: the seconds must be a finite number above 0")
     return out
 
 
@@ -44,6 +47,8 @@ def _list_checks(ctx: click.Context, _param: click.Parameter, value: bool) -> No
 @target_options
 @click.option("--seed", type=int, default=None, help="Seed for generated cases (default 0: the same cases every run).")
 @click.option("--go-examples", type=click.IntRange(min=0), default=None, help="Drawn go cases per tool, besides the boundary cases [20].")
+@click.option("--value", "values", multiple=True, metavar="[TOOL:]PROPERTY=JSON",
+              help="A value from the server's world for a property or $.path (repeatable; a JSON list: one of these).")
 @click.option("--include", multiple=True, metavar="PATTERN", help="Only tools matching this glob (repeatable).")
 @click.option("--exclude", multiple=True, metavar="PATTERN", help="Skip tools matching this glob (repeatable).")
 @click.option("--allow-destructive", is_flag=True, help="Also call tools annotated destructiveHint: true.")
@@ -87,7 +92,12 @@ def check(**kwargs: Any) -> int:
         opts = ConnectOptions(kwargs)
     if opts.session["revision"] is None and config.get("revision"):
         opts.session["revision"] = config.get("revision")
+    from feeler.world.known import known_pool
+
+    seed = kwargs["seed"] if kwargs["seed"] is not None else config.get("seed", 0)
+    pool = known_pool(kwargs["values"], config.get("values"), config.get("values_hook"), seed=seed)
     options = RunOptions(
+        values=pool,
         seed=kwargs["seed"] if kwargs["seed"] is not None else config.get("seed", 0),
         go_examples=kwargs["go_examples"] if kwargs["go_examples"] is not None else config.get("go_examples", 20),
         include=list(kwargs["include"]) or list(config.get("include", [])),
@@ -135,7 +145,7 @@ def check(**kwargs: Any) -> int:
 
 @click.command("replay")
 @click.argument("file", type=click.Path(dir_okay=False))
-@click.option("--timeout", type=click.FloatRange(min=0.1), default=30.0, show_default=True)
+@click.option("--timeout", type=SECONDS, default=30.0, show_default=True)
 def replay_command(file: str, timeout: float) -> int:
     """Send the request recorded in a replay FILE again and show the answer.
 

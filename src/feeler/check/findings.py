@@ -4,6 +4,7 @@ from __future__ import annotations
 
 import hashlib
 import json
+from collections.abc import Iterable
 from dataclasses import dataclass, field
 from typing import Any
 
@@ -103,6 +104,11 @@ class FindingSet:
 
     def errors(self) -> list[Finding]:
         return [f for f in self if f.severity == "error"]
+
+    def drop(self, signatures: Iterable[str]) -> None:
+        """Forget the findings with these signatures (replaced by a summary, e.g. one hint)."""
+        for signature in list(signatures):
+            self._by_sig.pop(signature, None)
 
     def signatures(self) -> set[str]:
         return set(self._by_sig)

@@ -28,8 +28,8 @@ from feeler.session import Exchange
 __all__ = ["CHECKS", "CASE_KINDS", "SEVERITIES", "CallContext", "Check", "CheckSettings", "Problem", "register", "select_checks"]
 
 #: What a check can look at: the advertised tool itself, a go case, a no-go case, a protocol probe,
-#: the liveness ping after a case, or the whole tool after all its cases.
-CASE_KINDS = ("catalog", "go", "no-go", "probe", "alive", "tool")
+#: the liveness ping after a case, the whole tool after all its cases, or one step of a call chain.
+CASE_KINDS = ("catalog", "go", "no-go", "probe", "alive", "tool", "chain")
 SEVERITIES = ("error", "warning")
 
 
@@ -67,6 +67,8 @@ class CallContext:
     :param case: the generated case (go / no-go), a probe, or None.
     :param failure: the target failure instead of an answer (timeout, exit), if any.
     :param stats: per-tool counters (for ``tool`` checks).
+    :param base: the outcome (``entered``, ``stopped``, ``broke``) of the case's base, the same arguments
+        with the exercised keyword intact (:mod:`feeler.world.anchor`); None when no base is known.
     """
 
     kind: str
@@ -78,6 +80,7 @@ class CallContext:
     case: Any = None
     failure: TargetError | None = None
     stats: Any = None
+    base: str | None = None
 
     @property
     def keyword(self) -> str | None:

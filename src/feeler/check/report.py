@@ -41,6 +41,8 @@ def report_text(report: RunReport, *, verbose: bool = False) -> str:
                 + f"; probes: {stats.probes}"
                 + (f"; median {_median(stats.durations) * 1000:.1f} ms" if stats.durations else "")
             )
+            if stats.go_calls or stats.nogo_calls:
+                lines.append(f"  {stats.world.summary_text()}")
             if stats.nogo_calls:
                 lines.append(f"  rejects with {stats.rejection_style(report.revision)}")
             if stats.coverage:
@@ -103,6 +105,7 @@ def report_json(report: RunReport) -> str:
                 "medianSeconds": _median(s.durations),
                 "schemaProblem": s.schema_problem,
                 "coverage": s.coverage_summary() if s.coverage else None,
+                **s.world.summary(),
             }
             for name, s in sorted(report.tools.items())
         },

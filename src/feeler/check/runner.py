@@ -22,6 +22,8 @@ from feeler.connect import capture, open_session
 from feeler.errors import RemoteProtocolError, RequestTimeout, SchemaProblem, ServerExited, TargetError
 from feeler.session import Exchange, Session
 from feeler.target import Target
+from feeler.world import ValuePool
+from feeler.world.anchor import ToolWorld
 
 __all__ = ["Call", "RunOptions", "RunReport", "Runner", "ToolStats", "secret_values"]
 
@@ -42,6 +44,8 @@ class RunOptions:
     :param go_examples: hypothesis-drawn go cases per tool (besides the boundary cases).
     :param allow_destructive: also call tools annotated ``destructiveHint: true``.
     :param dry_run: list the calls that would be made; call nothing but the list methods.
+    :param values: values from the server's world (known, learned...) put into the cases
+        (:mod:`feeler.world`); the runner adds schema hints to it.
     """
 
     seed: int = 0
@@ -59,6 +63,12 @@ class RunOptions:
     max_timeouts_per_tool: int = 2
     alive_timeout: float = 5.0
     dry_run: bool = False
+    values: ValuePool | None = None
+    #: learn values from answers (and run the discovery pass); see feeler.world.state
+    learn: bool = True
+    #: chain runs (hypothesis stateful examples) and the most steps in one; 0 runs: no chain phase
+    chain_runs: int = 20
+    chain_steps: int = 8
     #: liveness is checked after a failure or a timeout, and after every *alive_every* calls besides
     alive_every: int = 20
     #: hypothesis example database for drawn go cases (None: none); failing examples are retried first
@@ -86,6 +96,11 @@ class ToolStats:
     #: the explicit cases sent (boundary go and no-go), kept to compute keyword coverage
     cases: list[Any] = field(default_factory=list, repr=False)
     coverage: list[Any] = field(default_factory=list)
+    #: entered arguments, refusals and anchored verdicts (:mod:`feeler.world.anchor`)
+    world: ToolWorld = field(default_factory=ToolWorld)
+    bases: list[Any] = field(default_factory=list, repr=False)
+    #: entered go cases per provenance of a learned value ("list_roots /structuredContent/roots/0": 2)
+    learned_from: dict[str, int] = field(default_factory=dict)
 
     def coverage_summary(self) -> dict[str, Any]:
         """How many schema keywords (by location) got a go and a no-go case, and which got none, why."""
@@ -178,6 +193,9 @@ class Runner:
         self.report = RunReport(target=target)
         self.session: Session | None = None
         self.server_probes_sent: set[str] = set()  # server-wide probes go once per run, not once per tool
+        self.pool = self.options.values if self.options.values is not None else ValuePool()
+        self.last_call: CallContext | None = None
+        self._world: Any = None
         settings = self.options.settings
         if not settings.secrets:
             settings = CheckSettings(settings.strict_go, settings.latency_budget, secret_values(dict(target.env)))
@@ -211,6 +229,24 @@ class Runner:
             return False
         return True
 
+    @property
+    def world(self) -> Any:
+        """The run's :class:`feeler.world.state.World` (value pool, learning, chains)."""
+        if self._world is None:
+            from feeler.world.state import World
+
+            self.open()
+            assert self.report.catalog is not None
+            self._world = World(self.report.catalog.tool_list(), pool=self.pool, learn=self.options.learn)
+        return self._world
+
+    def run_chains(self) -> list[Finding]:
+        """The chain phase (sequences of calls linked by returned values); returns its new findings."""
+        if self.options.dry_run or self.options.chain_runs <= 0:
+            return []
+        self.world.discover(self)
+        return self.world.chains(self, runs=self.options.chain_runs, steps=self.options.chain_steps)
+
     def __enter__(self) -> Runner:
         self.open()
         return self
@@ -226,6 +262,7 @@ class Runner:
             assert self.report.catalog is not None
             for tool in self.tools():
                 self.run_tool(tool)
+            self.run_chains()
         finally:
             self.close()
         self._write_replays()
@@ -267,7 +304,10 @@ class Runner:
             stats.skipped = reason
         elif stats.schema_problem is None:
             if "go" in kinds:
+                if not self.options.dry_run:
+                    self.world.discover(self)
                 self._go(tool, stats)
+                self._guidance(tool, stats)
             if "no-go" in kinds:
                 self._nogo(tool, stats)
         if "protocol" in kinds and self.options.probes and not reason:
@@ -302,27 +342,77 @@ class Runner:
             stats.schema_problem = str(exc)  # the schema_usable check reports it; no cases can be made
         self._evaluate(CallContext("catalog", tool, self.revision, self.era, self.settings))
 
+    def _bases(self, tool: Tool, stats: ToolStats) -> list[Any]:
+        from feeler.world.plan import prepare_tool
+
+        if not stats.bases:
+            stats.bases = prepare_tool(tool, self.pool)
+        return stats.bases
+
     def _go(self, tool: Tool, stats: ToolStats) -> None:
         from feeler.generate import arguments, go_cases
+        from feeler.world.apply import CASE_SOURCES, with_values
+        from feeler.world.plan import base_cases
 
-        for case in go_cases(tool.input_schema, seed=self.options.seed):
+        bases = self._bases(tool, stats)
+        planned = base_cases(tool, self.pool, bases) + go_cases(tool.input_schema, seed=self.options.seed)
+        for pick, case in enumerate(planned):
+            case = with_values(tool.input_schema, tool.name, case, self.pool, pick=pick, sources=CASE_SOURCES)
             stats.cases.append(case)
-            if not self._call_case(tool, stats, case):
+            if not self._call_case(tool, stats, case) or not self._bound_base(tool, stats, case):
                 return
         if self.options.go_examples <= 0 or self.options.dry_run:
             if self.options.dry_run:
                 from feeler.generate import drawn_cases
 
-                for case in drawn_cases(tool.input_schema, self.options.go_examples, seed=self.options.seed):
-                    self._call_case(tool, stats, case)
+                for pick, case in enumerate(drawn_cases(tool.input_schema, self.options.go_examples, seed=self.options.seed)):
+                    self._call_case(tool, stats, with_values(tool.input_schema, tool.name, case, self.pool, pick=pick, sources=CASE_SOURCES))
             return
         self._drawn_go(tool, stats, arguments(tool.input_schema))
+
+    def _bound_base(self, tool: Tool, stats: ToolStats, case: Any) -> bool:
+        """An on-bound go case the tool refused: call its base (the value one step inside the bound) and
+        judge the bound against that (``bounds_honoured`` reports only when the base entered)."""
+        import dataclasses
+
+        from feeler.world.anchor import BOUND_KEYWORDS, inside_arguments, outcome
+
+        refused = self.last_call
+        if self.options.dry_run or refused is None or case.kind != "go" or case.keyword not in BOUND_KEYWORDS:
+            return True
+        if outcome(refused.exchange, refused.failure) != "stopped":
+            return True
+        inside = inside_arguments(tool.input_schema, case)
+        if inside is None:
+            return True
+        base = dataclasses.replace(case, keyword=None, arguments=inside, note=f"inside the bound ({case.note})")
+        going = self._call_case(tool, stats, base)
+        if self.last_call is not None:
+            judged = CallContext("go", tool, self.revision, self.era, self.settings, exchange=refused.exchange, case=case)
+            judged.base = outcome(self.last_call.exchange, self.last_call.failure)
+            self._evaluate(judged, only=("bounds_honoured",))
+        return bool(going)
+
+    def _guidance(self, tool: Tool, stats: ToolStats) -> None:
+        """One hint instead of a wall of go refusals when every go case was refused with one message."""
+        from feeler.world.guidance import gate_hint
+
+        if not any(check.name == "values_needed" for check in self.checks):
+            return  # the hint is not wanted (--skip-check values_needed): every refusal stays a finding
+        stats.world.hint = gate_hint(tool, stats.world, stats.go_calls)
+        if stats.world.hint:
+            self.report.findings.drop(
+                f.signature for f in self.report.findings
+                if f.tool == tool.name and f.kind == "go" and f.error_class in ("refused-valid", "is-error")
+            )  # fmt: skip
 
     def _drawn_go(self, tool: Tool, stats: ToolStats, strategy: Any) -> None:
         """Drawn go cases in a hypothesis property, so a failure is shrunk to the smallest arguments."""
         from hypothesis import HealthCheck, Phase, Verbosity, given, seed, settings
+        from hypothesis import strategies as st
 
         from feeler.generate import Case
+        from feeler.world.apply import CASE_SOURCES, with_values
 
         phases = [Phase.generate, Phase.shrink] if self.options.shrink else [Phase.generate]
         if self.options.example_db is not None:
@@ -338,9 +428,10 @@ class Runner:
             report_multiple_bugs=True,
         )
         @seed(self.options.seed)
-        @given(strategy)
-        def prop(args: Any) -> None:
+        @given(strategy, st.integers(0, 255) if len(self.pool) else st.just(0))
+        def prop(args: Any, pick: int) -> None:
             case = Case("go", None, "$", "", args, None, "hypothesis", "drawn")
+            case = with_values(tool.input_schema, tool.name, case, self.pool, pick=pick, sources=CASE_SOURCES)
             failed = self._call_case(tool, stats, case, collect=True)
             if failed:
                 raise _failure_type(failed[0])(failed)
@@ -359,9 +450,19 @@ class Runner:
                     raise
 
     def _nogo(self, tool: Tool, stats: ToolStats) -> None:
-        from feeler.generate import nogo_cases
+        from feeler.generate import Case, nogo_cases
+        from feeler.world.plan import base_cases, nogo_bases
 
-        for case in nogo_cases(tool.input_schema):
+        bases = self._bases(tool, stats)
+        if not stats.go_calls and not self.options.dry_run:
+            # No go case ran in this process (e.g. a pytest-xdist worker got only the no-go item): call the
+            # base cases first, so that no-go verdicts can be anchored on what the tool accepts.
+            for case in base_cases(tool, self.pool, bases) or [
+                Case("go", None, "$", "", b, None, "boundary", "base") for b in bases
+            ]:
+                if not self._call_case(tool, stats, case):
+                    return
+        for case in nogo_cases(tool.input_schema, bases=nogo_bases(stats.world, tool, self.pool, bases)):
             stats.cases.append(case)
             if not self._call_case(tool, stats, case):
                 return
@@ -385,6 +486,7 @@ class Runner:
                 raise _ToolAbandoned(tool.name)
             return False
         ctx = CallContext(case.kind, tool, self.revision, self.era, self.settings, case=case)
+        self.last_call = ctx
         try:
             session = self.open()
             ctx.exchange = session.call_tool(tool.name, case.arguments)
@@ -400,6 +502,7 @@ class Runner:
         except TargetError as exc:
             ctx.failure = exc
         self._count(stats, ctx)
+        self.world.after_call(tool, case, ctx, stats)
         failed = self._evaluate(ctx)
         if self.on_call is not None:
             self.on_call(tool, case, ctx, failed)
@@ -423,6 +526,7 @@ class Runner:
             if len(stats.durations) < 10_000:
                 stats.durations.append(ex.duration)
         if ctx.kind == "go":
+            stats.world.note_go(ctx.case, ex, ctx.failure)
             stats.go_calls += 1
             if ex is not None and isinstance(ex.result, dict):
                 if ex.is_error_result:
@@ -430,6 +534,8 @@ class Runner:
                 else:
                     stats.go_accepted += 1
         elif ctx.kind == "no-go":
+            verdict = stats.world.note_nogo(ctx.case, ex, ctx.failure)
+            ctx.base = "entered" if verdict in ("stopped", "entered") and stats.world.base_of(ctx.case) is not None else None
             stats.nogo_calls += 1
             if ex is not None and ex.error is not None and ex.error.get("code") == -32602:
                 stats.nogo_rejected_protocol += 1
@@ -447,10 +553,13 @@ class Runner:
             ctx.failure = exc
         return self._evaluate(ctx)
 
-    def _evaluate(self, ctx: CallContext) -> list[str]:
-        """Run every check on *ctx*; record findings; return the names of checks that found an error."""
+    def _evaluate(self, ctx: CallContext, only: tuple[str, ...] | None = None) -> list[str]:
+        """Run every check (or those named in *only*) on *ctx*; record findings; return the names of
+        checks that found an error."""
         failed: list[str] = []
         for check in self.checks:
+            if only is not None and check.name not in only:
+                continue
             for problem in check.run(ctx):
                 self._record(ctx, check.name, problem)
                 if problem.severity == "error":
