@@ -1,10 +1,11 @@
 """The campaign engine: rotate through the tools for a time budget, growing the drawn cases each round.
 
 Round 0 runs every case kind for each tool (catalog checks, boundary and drawn go cases, no-go cases,
-probes), like ``feeler check``. Each later round draws more go cases per tool (``samples`` times
+probes), like ``feeler check``; after the round's last tool come the chains (sequences of calls linked
+by returned values, :mod:`feeler.world`), growing like the drawn cases. Each later round draws more go cases per tool (``samples`` times
 ``growth`` per round, up to ``max_samples``) with a new seed, through hypothesis, whose example database
 (:mod:`feeler.campaign.database`) replays earlier failing examples first. The steps of one rotation are
-the table :data:`ROTATION`: register another with :func:`rotation_step` (chains of calls join this way).
+the table :data:`ROTATION` (``cases``, then ``chains``): register another with :func:`rotation_step`.
 
 After every step the state (round, position, time used, findings, counters) is written atomically to
 ``state.json`` in the campaign folder, next to the call log ``calls.jsonl``. Started again after an
@@ -118,6 +119,24 @@ def _cases(campaign: Campaign, tool: Any, round_no: int) -> None:
     runner.options.go_examples = campaign.samples_for(round_no)
     runner.options.seed = campaign.options.seed + round_no
     runner._drawn_go(tool, stats, arguments(tool.input_schema))
+
+
+#: chain runs per round grow like the drawn cases, up to this many
+MAX_CHAIN_RUNS = 400
+
+
+@rotation_step("chains")
+def _chains(campaign: Campaign, tool: Any, round_no: int) -> None:
+    """Once per round, after its last tool: chains of calls linked by returned values (feeler.world).
+    Chains cross tools, so with --shard only shard 1 runs them."""
+    runner = campaign.runner
+    if campaign.position != len(campaign.tool_names) - 1 or runner.options.chain_runs <= 0:
+        return
+    if campaign.options.shard is not None and campaign.options.shard[0] != 1:
+        return
+    runs = min(MAX_CHAIN_RUNS, int(runner.options.chain_runs * campaign.options.growth**round_no))
+    runner.world.discover(runner)
+    runner.world.chains(runner, runs=runs, steps=runner.options.chain_steps)
 
 
 class Campaign:
@@ -285,7 +304,8 @@ def _finding_data(finding: Any) -> dict[str, Any]:
     return {f.name: getattr(finding, f.name) for f in dataclasses.fields(finding)}
 
 
-_STATS_SKIP = ("cases", "coverage", "durations")
+#: ToolStats fields not kept in the state: rebuilt (cases, world, bases) or stored in their own form
+_STATS_SKIP = ("cases", "coverage", "durations", "world", "bases")
 
 
 def _stats_data(stats: Any) -> dict[str, Any]:
