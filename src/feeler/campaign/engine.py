@@ -240,8 +240,8 @@ class Campaign:
         return max(1, grown)
 
     def _on_call(self, tool: Any, case: Any, ctx: Any, failed: list[str]) -> None:
-        self.calls += 1
         self.log.hook(tool, case, ctx, failed)
+        self.calls += 1
         if self._extra_on_call is not None:
             self._extra_on_call(self)
         if self.remaining() <= 0:
