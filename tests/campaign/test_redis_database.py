@@ -72,7 +72,7 @@ def redis_url(tmp_path_factory: pytest.TempPathFactory, suite: Any) -> Iterator[
 
 
 def _charlie_errors(target: Target, db: object, tmp: Path, *, samples: int, seed: int) -> set[str]:
-    runner = Runner(target, RunOptions(go_examples=samples, seed=seed, include=["charlie"], probes=False,
+    runner = Runner(target, RunOptions(samples=samples, sample_seed=seed, include=["charlie"], probes=False,
                                        replay_dir=str(tmp), example_db=db))  # fmt: skip
     report = runner.run()
     return {f.error_class for f in report.findings if f.tool == "charlie" and f.kind == "go" and f.severity == "error"}

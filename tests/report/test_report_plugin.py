@@ -22,7 +22,7 @@ def test_workers_write_reports_that_merge(pytester: pytest.Pytester) -> None:
         pyproject="""
         [tool.feeler]
         targets = { demo = "feeler.demo.server:server" }
-        go_examples = 3
+        samples = 3
         replay_dir = "replays"
         """,
     )

@@ -108,7 +108,7 @@ def _cases(campaign: Campaign, tool: Any, round_no: int) -> None:
     """Round 0: every case kind, as ``feeler check``; later rounds: more drawn go cases, a new seed."""
     runner = campaign.runner
     if round_no == 0:
-        runner.options.go_examples = campaign.options.samples
+        runner.options.samples = campaign.options.samples
         runner.run_tool(tool)
         return
     stats = runner.stats(tool)
@@ -116,8 +116,8 @@ def _cases(campaign: Campaign, tool: Any, round_no: int) -> None:
         return
     from feeler.generate import arguments
 
-    runner.options.go_examples = campaign.samples_for(round_no)
-    runner.options.seed = campaign.options.seed + round_no
+    runner.options.samples = campaign.samples_for(round_no)
+    runner.options.sample_seed = campaign.options.seed + round_no
     runner._drawn_go(tool, stats, arguments(tool.input_schema))
 
 
@@ -304,7 +304,7 @@ def _finding_data(finding: Any) -> dict[str, Any]:
     return {f.name: getattr(finding, f.name) for f in dataclasses.fields(finding)}
 
 
-#: ToolStats fields not kept in the state: rebuilt (cases, world, bases) or stored in their own form
+#: not kept across a resume: cases and bases are remade, the world summary starts again each run
 _STATS_SKIP = ("cases", "coverage", "durations", "world", "bases")
 
 
