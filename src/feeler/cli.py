@@ -44,9 +44,28 @@ COMMANDS: dict[str, str] = {
 }
 
 
+#: command name -> its line in ``feeler --help``, so that the help imports no command module
+SUMMARIES: dict[str, str] = {
+    "catalog": "Capture the catalog (tools, prompts, resources...) as canonical JSON.",
+    "demo": "Check the bundled demo server and show what feeler finds.",
+    "cases": "Print the go and no-go cases of one schema as JSON Lines.",
+    "check": "Call every tool with go and no-go cases and check every answer.",
+    "replay": "Send a finding's recorded request again.",
+    "diff": "Compare two catalogs: breaking or not, with witnesses.",
+    "approve": "Show the differences from the baseline, then write the new one.",
+    "report": "Join and render report documents (feeler-report.json).",
+    "campaign": "Test a server for a fixed time budget (nightly runs, shards, resume).",
+}
+
+
 class _LazyGroup(click.Group):
     def list_commands(self, ctx: click.Context) -> list[str]:
-        return sorted(name for name in COMMANDS if self._load(name) is not None)
+        return sorted(COMMANDS)
+
+    def format_commands(self, ctx: click.Context, formatter: click.HelpFormatter) -> None:
+        rows = [(name, SUMMARIES.get(name, "")) for name in self.list_commands(ctx)]
+        with formatter.section("Commands"):
+            formatter.write_dl(rows)
 
     def get_command(self, ctx: click.Context, cmd_name: str) -> click.Command | None:
         return self._load(cmd_name)

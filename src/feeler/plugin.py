@@ -37,6 +37,8 @@ OPT_SAMPLE_SEED = "--feeler-sample-seed"
 OPT_PROTOCOL_VERSION = "--feeler-protocol-version"
 OPT_APPROVE = "--feeler-approve"
 OPT_OFF = "--feeler-off"
+OPT_REPORT = "--feeler-report"
+
 #: Former option -> (its new name, its dest): accepted for one release with a notice.
 RENAMED_OPTIONS: dict[str, tuple[str, str]] = {
     "--feeler-profile": (OPT_DEPTH, "feeler_depth"),
@@ -70,6 +72,9 @@ def pytest_addoption(parser: pytest.Parser) -> None:
     group.addoption(OPT_APPROVE, action="store_true", default=False,
                     help="Write the live catalog as the new approved baseline instead of comparing with it.")  # fmt: skip
     group.addoption(OPT_OFF, action="store_true", default=False, help="Add no feeler items even if targets are configured.")
+    group.addoption(OPT_REPORT, default=None, metavar="DIR",
+                    help="Write each target's reports (JSON, Markdown, JUnit XML, SARIF, HTML) into DIR/<target>[-<worker>]; "
+                    "join workers with `feeler report merge`.")  # fmt: skip
 
 
 def _apply_renamed_options(config: pytest.Config) -> None:
@@ -178,7 +183,18 @@ class FeelerPlugin:
         for runner in self.runners.values():
             runner.close()
             runner._write_replays()
+            self._write_report(runner)
         self.runners.clear()
+
+    def _write_report(self, runner: Runner) -> None:
+        folder = self.config.getoption(OPT_REPORT, None)
+        if not folder or runner.report.catalog is None:
+            return
+        from feeler.report import build_report, write_reports
+
+        worker = getattr(self.config, "workerinput", {}).get("workerid")
+        name = runner.target.slug() + (f"-{worker}" if worker else "")
+        write_reports(build_report(runner.report, command="pytest"), os.path.join(folder, name))
 
     # -- collection ---------------------------------------------------------------------------------
     @pytest.hookimpl(tryfirst=True)

@@ -204,6 +204,7 @@ class Runner:
         #: called after each tool call with ``(tool, case, ctx, failed)``; the call log hooks in here
         self.on_call: Callable[[Tool, Any, CallContext, list[str]], None] | None = None
         self._calls_since_alive = 0
+        self._unpinged: Any = None  # the last case after which liveness was not checked yet
         self.checks: list[Check] = select_checks(self.options.checks, self.options.skip_checks)
         self.report = RunReport(target=target)
         self.session: Session | None = None
@@ -340,6 +341,11 @@ class Runner:
             self._probes(tool, stats)
         if "go" in kinds and not reason:
             self._evaluate(CallContext("tool", tool, self.revision, self.era, self.settings, stats=stats))
+        if self._unpinged is not None and not self.options.dry_run:
+            # Liveness once more at the end of each tool, so a wedged server shows even with few calls.
+            last, self._unpinged, self._calls_since_alive = self._unpinged, None, 0
+            if self._alive(tool, last):
+                self._restart()
         self._coverage(tool, stats)
         return [
             f for f in self.report.findings
@@ -545,8 +551,9 @@ class Runner:
             self.on_call(tool, case, ctx, failed)
         self._calls_since_alive += 1
         alive_failed: list[str] = []
+        self._unpinged = case
         if failed or ctx.failure is not None or self._calls_since_alive >= max(1, self.options.alive_every):
-            self._calls_since_alive = 0
+            self._calls_since_alive, self._unpinged = 0, None
             alive_failed = self._alive(tool, case)
         if alive_failed or isinstance(ctx.failure, ServerExited):
             if not self._restart():
