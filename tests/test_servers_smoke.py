@@ -229,7 +229,9 @@ def test_demo_planted_defect_reproduces(demo_wire: tuple[Wire, dict[str, Any]], 
     schema = tools[defect.tool]["inputSchema"]
     checker = Draft202012Validator(schema, format_checker=Draft202012Validator.FORMAT_CHECKER)
     # jsonschema as the reference validator: go cases are valid, the no-go case is invalid.
-    assert checker.is_valid(defect.arguments) is (defect.case_kind == "go")
+    assert checker.is_valid(defect.arguments) is (defect.case_kind in ("go", "chain"))
+    for tool, arguments in defect.needs:  # the bookings the triggering call names
+        assert tool_result(wire.call("tools/call", {"name": tool, "arguments": arguments})).get("isError") is not True
     answer = wire.call("tools/call", {"name": defect.tool, "arguments": defect.arguments})
     if defect.key == "off_by_one_at_maximum":
         assert tool_result(answer).get("isError") is True
@@ -237,6 +239,17 @@ def test_demo_planted_defect_reproduces(demo_wire: tuple[Wire, dict[str, Any]], 
         assert tool_result(wire.call("tools/call", {"name": defect.tool, "arguments": below})).get("isError") is not True
     elif defect.key == "missing_validation_pattern":
         assert tool_result(answer).get("isError") is not True
+        unknown = {**defect.arguments, "booking_ref": "nope"}
+        assert tool_result(wire.call("tools/call", {"name": defect.tool, "arguments": unknown})).get("isError") is True
+    elif defect.key == "booking_filed_under_phone":
+        # The reference book_berth just returned (structuredContent.booking_ref) is refused with isError.
+        booked = tool_result(wire.call("tools/call", {"name": defect.needs[0][0], "arguments": defect.needs[0][1]}))
+        assert booked["structuredContent"]["booking_ref"] == defect.arguments["booking_ref"]
+        assert tool_result(answer).get("isError") is True
+        tool, without_phone = "book_berth", {**defect.needs[0][1], "contact": {"name": "Ada Quill", "email": "ada@example.org"}}
+        ref = tool_result(wire.call("tools/call", {"name": tool, "arguments": without_phone}))["structuredContent"]["booking_ref"]
+        ordered = {**defect.arguments, "booking_ref": ref}
+        assert tool_result(wire.call("tools/call", {"name": defect.tool, "arguments": ordered})).get("isError") is not True
     elif defect.key == "unicode_crash_leaks_traceback":
         # JSON-RPC 2.0 section 5.1: -32603 Internal error, here with a Python traceback in data.
         assert answer["error"]["code"] == -32603

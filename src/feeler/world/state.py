@@ -81,7 +81,8 @@ class World:
             stats = runner.stats(tool)
             if runner.skip_reason(tool) or stats.schema_problem or stats.timeouts >= runner.options.max_timeouts_per_tool:
                 continue
-            known = list(stats.world.entered[:_BASES_PER_TOOL])
+            entered = stats.world.entered
+            known = list(entered[:: max(1, len(entered) // _BASES_PER_TOOL)][:_BASES_PER_TOOL])  # spread: variety
             if not known:
                 for pick, case in enumerate(go_cases(tool.input_schema, seed=runner.options.seed)[:_BASES_PER_TOOL]):
                     offered = with_values(tool.input_schema, tool.name, case, self.pool, pick=pick, sources=CASE_SOURCES)
