@@ -139,6 +139,9 @@ class FeelerPlugin:
             ),
             shrink=PROFILES[self.profile]["shrink"],
             replay_dir=cfg.get("replay_dir", ".feeler/replays"),
+            learn=bool(cfg.get("learn", True)),
+            chain_runs=int(cfg.get("chain_runs", 20)),
+            chain_steps=int(cfg.get("chain_steps", 8)),
         )
 
     def runner(self, name: str) -> Runner:

@@ -84,10 +84,13 @@ class World:
             entered = stats.world.entered
             known = list(entered[:: max(1, len(entered) // _BASES_PER_TOOL)][:_BASES_PER_TOOL])  # spread: variety
             if not known:
+                # No go case of this tool ran in this process (a pytest-xdist worker got only the chains
+                # item): call a few go cases first and keep those that entered as the bases.
                 for pick, case in enumerate(go_cases(tool.input_schema, seed=runner.options.seed)[:_BASES_PER_TOOL]):
                     offered = with_values(tool.input_schema, tool.name, case, self.pool, pick=pick, sources=CASE_SOURCES)
-                    if offered.arguments not in known:
-                        known.append(offered.arguments)
+                    if not runner._call_case(tool, stats, offered):
+                        break
+                known = list(stats.world.entered[:_BASES_PER_TOOL])
             known.sort(key=lambda a: len(json.dumps(a, ensure_ascii=False, default=str)))  # shrinks to the smallest
             if known and isinstance(known[0], dict):
                 tools.append(tool)
