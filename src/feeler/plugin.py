@@ -265,7 +265,8 @@ class FeelerItem(pytest.Item):
 
 
 def _kind_of(kind: str) -> str:
-    return "protocol" if kind == "probe" else kind
+    # Tool-level verdicts (accepts_some_go, values_needed) are drawn from the go cases: the [go] item shows them.
+    return {"probe": "protocol", "tool": "go"}.get(kind, kind)
 
 
 def _lines(findings: list[Any]) -> list[str]:
