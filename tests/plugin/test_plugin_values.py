@@ -14,20 +14,14 @@ from pathlib import Path
 import pytest
 
 ROOT = Path(__file__).resolve().parents[2]
+sys.path.insert(0, str(Path(__file__).resolve().parent))
+from test_plugin import _project as make_project  # noqa: E402
+
 COMMAND = f"{sys.executable} {ROOT / 'tests' / 'servers' / 'refuses_other_roots.py'}"
 
 
 def _project(pytester: pytest.Pytester, values: str = "") -> None:
-    pytester.makefile(
-        ".toml",
-        pyproject=f"""
-        [tool.feeler]
-        targets = {{ roots = {COMMAND!r} }}
-        go_examples = 2
-        replay_dir = "replays"
-        {values}
-        """,
-    )
+    make_project(pytester, COMMAND, values)
 
 
 def _failed(result: pytest.RunResult) -> set[str]:
