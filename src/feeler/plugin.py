@@ -7,6 +7,7 @@ test items per target x tool x kind::
     feeler::<target>::<tool>[go]              go cases must be accepted
     feeler::<target>::<tool>[no-go]           no-go cases must be rejected cleanly
     feeler::<target>::<tool>[protocol]        protocol-level no-go requests
+    feeler::<target>::chains                  call chains (sequences linked by returned values)
 
 They work with ``-k``, ``-x``, ``-n`` (pytest-xdist: each worker opens its own session) and
 ``--junitxml`` (findings are attached as properties). Hand-written tests get a connected session from
@@ -71,15 +72,19 @@ def pytest_configure(config: pytest.Config) -> None:
     if config.getoption(OPT_OFF):
         return
     from feeler.config import load_config
+    from feeler.errors import FeelerError
 
-    cfg = load_config(start=str(config.rootpath))
-    targets: dict[str, Target] = dict(cfg.targets())
-    if config.getoption(OPT_TARGET):
-        from feeler.target import Target
+    try:  # a config or target error is a usage error (one line, exit 4), never an INTERNALERROR
+        cfg = load_config(start=str(config.rootpath))
+        targets: dict[str, Target] = dict(cfg.targets())
+        if config.getoption(OPT_TARGET):
+            from feeler.target import Target
 
-        for spec in config.getoption(OPT_TARGET):
-            tgt = Target.parse(spec)
-            targets[tgt.slug()] = tgt
+            for spec in config.getoption(OPT_TARGET):
+                tgt = Target.parse(spec)
+                targets[tgt.slug()] = tgt
+    except FeelerError as exc:
+        raise pytest.UsageError(f"feeler: {exc}") from None
     plugin = FeelerPlugin(config, cfg, targets)
     config.stash[_plugin_key] = plugin
     config.pluginmanager.register(plugin, "feelerplugin")
@@ -193,6 +198,8 @@ class TargetCollector(pytest.Collector):
         for tool in runner.tools():
             for kind in _KINDS:
                 items.append(FeelerItem.from_parent(self, name=f"{tool.name}[{kind}]", tool=tool.name, kind=kind))
+        if runner.options.chain_runs > 0:
+            items.append(FeelerItem.from_parent(self, name="chains", tool=None, kind="chain"))
         return items
 
 
@@ -225,6 +232,9 @@ class FeelerItem(pytest.Item):
         if self.kind == "catalog":
             self._catalog(runner)
             return
+        if self.kind == "chain":
+            self._fail_on(runner.run_chains())
+            return
         tool = runner.report.catalog.tool(self.tool_name) if runner.report.catalog else None
         if tool is None:
             raise FeelerFailure(f"tool {self.tool_name!r} is no longer advertised")
@@ -236,6 +246,9 @@ class FeelerItem(pytest.Item):
             f for f in runner.report.findings
             if f.tool == self.tool_name and _kind_of(f.kind) == self.kind
         ]  # fmt: skip
+        self._fail_on(mine)
+
+    def _fail_on(self, mine: list[Any]) -> None:
         for finding in mine:
             self.user_properties.append(("feeler_finding", f"{finding.check}: {finding.message}"))
         errors = [f for f in mine if f.severity == "error"]

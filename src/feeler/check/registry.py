@@ -28,8 +28,8 @@ from feeler.session import Exchange
 __all__ = ["CHECKS", "CASE_KINDS", "SEVERITIES", "CallContext", "Check", "CheckSettings", "Problem", "register", "select_checks"]
 
 #: What a check can look at: the advertised tool itself, a go case, a no-go case, a protocol probe,
-#: the liveness ping after a case, or the whole tool after all its cases.
-CASE_KINDS = ("catalog", "go", "no-go", "probe", "alive", "tool")
+#: the liveness ping after a case, the whole tool after all its cases, or one step of a call chain.
+CASE_KINDS = ("catalog", "go", "no-go", "probe", "alive", "tool", "chain")
 SEVERITIES = ("error", "warning")
 
 

@@ -14,6 +14,7 @@ from datetime import datetime, timezone
 from typing import Any
 
 from feeler._files import write_text_atomic
+from feeler._read import read_json
 from feeler.catalog import Tool
 from feeler.check.findings import Finding
 from feeler.errors import TargetError, UsageError
@@ -35,24 +36,21 @@ def write_replay(folder: str, target: Target, finding: Finding) -> str:
         "answer": finding.answer_text,
         "finding": {k: v for k, v in finding.to_json().items() if k != "replay"},
     }
+    if finding.extra.get("sequence"):
+        data["sequence"] = finding.extra["sequence"]  # a chain: every call, linked by earlier answers
     path = os.path.join(folder, target.slug(), f"{finding.check}-{finding.short_id}.json")
     write_text_atomic(path, json.dumps(data, indent=2, ensure_ascii=False, sort_keys=True) + "\n")
     return path
 
 
 def load_replay(path: str) -> dict[str, Any]:
-    try:
-        with open(path, encoding="utf-8") as handle:
-            data = json.load(handle)
-    except OSError as exc:
-        raise UsageError(f"cannot read the replay file {path}: {exc.strerror}") from exc
-    except json.JSONDecodeError as exc:
-        raise UsageError(f"{path}:{exc.lineno}:{exc.colno}: the replay file is not valid JSON ({exc.msg})") from exc
-    if not isinstance(data, dict) or data.get("format") != REPLAY_FORMAT:
+    data = read_json(path, what="the replay file", fix="give a replay file written by `feeler check`")
+    if data.get("format") != REPLAY_FORMAT:
         raise UsageError(f"{path}: not a feeler replay file (expected format {REPLAY_FORMAT!r})")
-    for key in ("target", "request", "finding"):
-        if key not in data:
-            raise UsageError(f"{path}: the replay file has no {key!r}; write it again with `feeler check`")
+    for key, kind in (("target", dict), ("request", str), ("finding", dict)):
+        if not isinstance(data.get(key), kind):
+            raise UsageError(f"{path}: the replay file has no {key!r} {'object' if kind is dict else 'string'}; "
+                             "write it again with `feeler check`")
     return data
 
 
@@ -84,6 +82,17 @@ def replay(data: dict[str, Any], *, timeout: float = 30.0, target: Target | None
     session = open_session(tgt, revision=data.get("revision"), timeout=timeout)
     try:
         catalog = capture(session)
+        if data.get("sequence"):
+            from feeler.world.chains import replay_sequence
+
+            def make_ctx(chain_tool: Tool | None) -> CallContext:
+                settings = CheckSettings(secrets=secret_values(dict(tgt.env)))
+                return CallContext("chain", chain_tool, str(session.revision), str(session.era), settings)
+
+            request, answer, problems = replay_sequence(session, data, make_ctx, catalog, timeout)
+            wanted = finding.get("signature", "").split("|")[-1]
+            same = [p for p in problems if not wanted or p.error_class == wanted]
+            return ReplayOutcome(request, answer, bool(same), [p.message for p in problems])
         tool = None
         if finding.get("tool"):
             try:

@@ -64,6 +64,15 @@ class RunOptions:
     alive_timeout: float = 5.0
     dry_run: bool = False
     values: ValuePool | None = None
+    #: learn values from answers (and run the discovery pass); see feeler.world.state
+    learn: bool = True
+    #: chain runs (hypothesis stateful examples) and the most steps in one; 0 runs: no chain phase
+    chain_runs: int = 20
+    chain_steps: int = 8
+    #: liveness is checked after a failure or a timeout, and after every *alive_every* calls besides
+    alive_every: int = 20
+    #: hypothesis example database for drawn go cases (None: none); failing examples are retried first
+    example_db: Any = None
 
 
 @dataclass
@@ -90,6 +99,8 @@ class ToolStats:
     #: entered arguments, refusals and anchored verdicts (:mod:`feeler.world.anchor`)
     world: ToolWorld = field(default_factory=ToolWorld)
     bases: list[Any] = field(default_factory=list, repr=False)
+    #: entered go cases per provenance of a learned value ("list_roots /structuredContent/roots/0": 2)
+    learned_from: dict[str, int] = field(default_factory=dict)
 
     def coverage_summary(self) -> dict[str, Any]:
         """How many schema keywords (by location) got a go and a no-go case, and which got none, why."""
@@ -175,12 +186,16 @@ class Runner:
         self.options = options or RunOptions()
         self.session_options = dict(session_options or {})
         self.progress = progress or (lambda _line: None)
+        #: called after each tool call with ``(tool, case, ctx, failed)``; the call log hooks in here
+        self.on_call: Callable[[Tool, Any, CallContext, list[str]], None] | None = None
+        self._calls_since_alive = 0
         self.checks: list[Check] = select_checks(self.options.checks, self.options.skip_checks)
         self.report = RunReport(target=target)
         self.session: Session | None = None
         self.server_probes_sent: set[str] = set()  # server-wide probes go once per run, not once per tool
         self.pool = self.options.values if self.options.values is not None else ValuePool()
         self.last_call: CallContext | None = None
+        self._world: Any = None
         settings = self.options.settings
         if not settings.secrets:
             settings = CheckSettings(settings.strict_go, settings.latency_budget, secret_values(dict(target.env)))
@@ -214,6 +229,24 @@ class Runner:
             return False
         return True
 
+    @property
+    def world(self) -> Any:
+        """The run's :class:`feeler.world.state.World` (value pool, learning, chains)."""
+        if self._world is None:
+            from feeler.world.state import World
+
+            self.open()
+            assert self.report.catalog is not None
+            self._world = World(self.report.catalog.tool_list(), pool=self.pool, learn=self.options.learn)
+        return self._world
+
+    def run_chains(self) -> list[Finding]:
+        """The chain phase (sequences of calls linked by returned values); returns its new findings."""
+        if self.options.dry_run or self.options.chain_runs <= 0:
+            return []
+        self.world.discover(self)
+        return self.world.chains(self, runs=self.options.chain_runs, steps=self.options.chain_steps)
+
     def __enter__(self) -> Runner:
         self.open()
         return self
@@ -232,6 +265,7 @@ class Runner:
                 self._prepare(tool)  # known values are checked before any call: a bad one stops the run at once
             for tool in tools:
                 self.run_tool(tool)
+            self.run_chains()
         finally:
             self.close()
         self._write_replays()
@@ -273,6 +307,8 @@ class Runner:
             stats.skipped = reason
         elif stats.schema_problem is None:
             if "go" in kinds:
+                if not self.options.dry_run:
+                    self.world.discover(self)
                 self._go(tool, stats)
                 self._guidance(tool, stats)
             if "no-go" in kinds:
@@ -389,11 +425,13 @@ class Runner:
         from feeler.world.apply import CASE_SOURCES, with_values
 
         phases = [Phase.generate, Phase.shrink] if self.options.shrink else [Phase.generate]
+        if self.options.example_db is not None:
+            phases.insert(0, Phase.reuse)
 
         @settings(
             max_examples=self.options.go_examples,
             deadline=None,
-            database=None,
+            database=self.options.example_db,
             phases=phases,
             suppress_health_check=list(HealthCheck),
             verbosity=Verbosity.quiet,
@@ -408,6 +446,8 @@ class Runner:
             if failed:
                 raise _failure_type(failed[0])(failed)
 
+        # One database key per tool and schema: hypothesis would otherwise key every tool alike.
+        prop._hypothesis_internal_database_key = _database_key(tool)  # type: ignore[attr-defined]
         try:
             prop()
         except _CaseFailed:
@@ -472,8 +512,15 @@ class Runner:
         except TargetError as exc:
             ctx.failure = exc
         self._count(stats, ctx)
+        self.world.after_call(tool, case, ctx, stats)
         failed = self._evaluate(ctx)
-        alive_failed = self._alive(tool, case)
+        if self.on_call is not None:
+            self.on_call(tool, case, ctx, failed)
+        self._calls_since_alive += 1
+        alive_failed: list[str] = []
+        if failed or ctx.failure is not None or self._calls_since_alive >= max(1, self.options.alive_every):
+            self._calls_since_alive = 0
+            alive_failed = self._alive(tool, case)
         if alive_failed or isinstance(ctx.failure, ServerExited):
             if not self._restart():
                 if collect:
@@ -575,6 +622,14 @@ class Runner:
         for finding in self.report.findings:
             if finding.request_text:
                 finding.replay = write_replay(self.options.replay_dir, self.target, finding)
+
+
+def _database_key(tool: Tool) -> bytes:
+    # The tool and its schema, not the target spec: shards and workers on other machines share examples.
+    import hashlib
+
+    schema = json.dumps(tool.input_schema, sort_keys=True, default=str)
+    return hashlib.sha256(f"feeler|{tool.name}|{schema}".encode()).digest()
 
 
 class _ToolAbandoned(Exception):
