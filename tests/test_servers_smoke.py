@@ -344,6 +344,22 @@ def test_crashes_on_call(tmp_path: Path) -> None:
         assert "fatal:" in wire.stderr()
 
 
+def test_refuses_other_roots(tmp_path: Path) -> None:
+    with started(tmp_path, script("refuses_other_roots")) as wire:
+        wire.handshake()
+        assert {t["name"] for t in tool_result(wire.call("tools/list"))["tools"]} == {"list_entries", "read_entry", "count_entries"}
+
+        def call(arguments: dict[str, Any]) -> dict[str, Any]:
+            return tool_result(wire.call("tools/call", {"name": "list_entries", "arguments": arguments}))
+
+        # MCP 2025-11-25 server/tools "Error Handling": refusals are isError results.
+        assert call({"root": "/elsewhere"})["isError"] is True
+        assert "isError" not in call({"root": "/srv/orchard", "depth": 2})
+        # The planted defect: "3" is not an integer (JSON Schema 2020-12 validation 6.1.1), yet it is accepted.
+        assert "isError" not in call({"root": "/srv/orchard", "depth": "3"})
+        assert call({"root": "/srv/orchard", "depth": True})["isError"] is True
+
+
 def test_hangs_on_call(tmp_path: Path) -> None:
     with started(tmp_path, script("hangs_on_call")) as wire:
         wire.handshake()

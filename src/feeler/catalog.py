@@ -154,6 +154,18 @@ class Catalog:
         for key in ("tools", "prompts", "resources", "resourceTemplates"):
             if not isinstance(data.get(key, []), list):
                 raise UsageError(f"{source}: {key!r} must be a list")
+            for index, entry in enumerate(data.get(key, [])):
+                if not isinstance(entry, dict):
+                    raise UsageError(f"{source}: {key}[{index}] must be a JSON object, got {type(entry).__name__} "
+                                     f"{_short(entry)}; write the file again with `feeler catalog`")
+        for index, entry in enumerate(data.get("tools", [])):
+            if not isinstance(entry.get("name"), str):
+                raise UsageError(f"{source}: tools[{index}] has no string 'name'; write the file again with `feeler catalog`")
+        for key in ("server", "capabilities"):
+            if not isinstance(data.get(key) or {}, dict):
+                raise UsageError(f"{source}: {key!r} must be a JSON object")
+        if not isinstance(data.get("supportedRevisions") or [], list):
+            raise UsageError(f"{source}: 'supportedRevisions' must be a list")
         return cls(
             revision=data["revision"],
             era=data["era"],
@@ -174,3 +186,8 @@ class Catalog:
         except json.JSONDecodeError as exc:
             raise UsageError(f"{source}:{exc.lineno}:{exc.colno}: not valid JSON ({exc.msg})") from exc
         return cls.from_json(data, source=source)
+
+
+def _short(value: Any, limit: int = 60) -> str:
+    text = repr(value)
+    return text if len(text) <= limit else text[: limit - 3] + "..."

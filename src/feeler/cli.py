@@ -36,6 +36,8 @@ COMMANDS: dict[str, str] = {
     "replay": "feeler.check.cli:replay",
     "diff": "feeler.diff.cli:diff",
     "approve": "feeler.baseline.cli:approve",
+    "report": "feeler.report.cli:report",
+    "campaign": "feeler.campaign.cli:campaign",
 }
 
 

@@ -72,15 +72,19 @@ def pytest_configure(config: pytest.Config) -> None:
     if config.getoption(OPT_OFF):
         return
     from feeler.config import load_config
+    from feeler.errors import FeelerError
 
-    cfg = load_config(start=str(config.rootpath))
-    targets: dict[str, Target] = dict(cfg.targets())
-    if config.getoption(OPT_TARGET):
-        from feeler.target import Target
+    try:  # a config or target error is a usage error (one line, exit 4), never an INTERNALERROR
+        cfg = load_config(start=str(config.rootpath))
+        targets: dict[str, Target] = dict(cfg.targets())
+        if config.getoption(OPT_TARGET):
+            from feeler.target import Target
 
-        for spec in config.getoption(OPT_TARGET):
-            tgt = Target.parse(spec)
-            targets[tgt.slug()] = tgt
+            for spec in config.getoption(OPT_TARGET):
+                tgt = Target.parse(spec)
+                targets[tgt.slug()] = tgt
+    except FeelerError as exc:
+        raise pytest.UsageError(f"feeler: {exc}") from None
     plugin = FeelerPlugin(config, cfg, targets)
     config.stash[_plugin_key] = plugin
     config.pluginmanager.register(plugin, "feelerplugin")
@@ -277,7 +281,8 @@ class FeelerItem(pytest.Item):
 
 
 def _kind_of(kind: str) -> str:
-    return "protocol" if kind == "probe" else kind
+    # Tool-level verdicts (accepts_some_go, values_needed) are drawn from the go cases: the [go] item shows them.
+    return {"probe": "protocol", "tool": "go"}.get(kind, kind)
 
 
 def _lines(findings: list[Any]) -> list[str]:

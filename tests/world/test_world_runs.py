@@ -20,7 +20,7 @@ from check_helpers import PY, SERVERS, cli_json, run_cli  # noqa: E402
 
 SERVER = ["--", PY, str(SERVERS / "refuses_other_roots.py")]
 TOOLS = {"list_entries", "read_entry", "count_entries"}
-FEW = ["--go-examples", "4", "--no-probes"]
+FEW = ["--go-examples", "2", "--no-probes"]
 
 
 def _by(report: dict[str, Any], check: str) -> list[dict[str, Any]]:

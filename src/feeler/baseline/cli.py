@@ -5,12 +5,11 @@ On a terminal it asks first; in scripts pass ``--yes``. Without either it refuse
 
 from __future__ import annotations
 
-import json
 import sys
-from pathlib import Path
 
 import click
 
+from feeler.cli_options import SECONDS
 from feeler.errors import FeelerError
 
 __all__ = ["approve"]
@@ -39,7 +38,7 @@ def _is_terminal() -> bool:
 @click.option("--per-tool", type=click.IntRange(1, 100), default=None, help="Pinned go cases per recorded tool [3].")
 @click.option("--revision", default=None, help="Code revision to record in the header (e.g. a git commit).")
 @click.option("--yes", "-y", is_flag=True, help="Write without asking (for scripts and CI).")
-@click.option("--timeout", type=float, default=30.0, show_default=True, help="Seconds for a live capture.")
+@click.option("--timeout", type=SECONDS, default=30.0, show_default=True, help="Seconds for a live capture.")
 def approve(target: str, root: str, name: str | None, outputs_file: str | None, record_outputs: bool,
             record_tools: tuple[str, ...], per_tool: int | None, revision: str | None, yes: bool,
             timeout: float) -> None:
@@ -69,12 +68,10 @@ def approve(target: str, root: str, name: str | None, outputs_file: str | None, 
         else:
             catalog, label = load_side(target, timeout=timeout)
         if outputs_file:
-            try:
-                outputs = json.loads(Path(outputs_file).read_text(encoding="utf-8"))
-            except ValueError as exc:
-                raise click.UsageError(f"{outputs_file}: not valid JSON ({exc})") from exc
-            if not isinstance(outputs, list):
-                raise click.UsageError(f"{outputs_file}: expected a JSON list of {{tool, arguments, result}}")
+            from feeler._read import read_json
+
+            outputs = read_json(outputs_file, what="the outputs file", expect=list,
+                                fix="give a JSON list of {tool, arguments, result} objects")
         store = BaselineStore(root, name or label)
         result = run_approve(store, catalog, outputs, revision=revision, echo=click.echo, masks=masks,
                              confirm=(lambda _q: True) if yes else (lambda q: click.confirm(q, default=False)))

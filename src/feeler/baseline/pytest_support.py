@@ -2,11 +2,12 @@
 baseline, or approve them.
 
 Storage never breaks a run: a missing baseline is not a failure (there is nothing to compare with yet)
-and a corrupt one is a warning; xdist workers never write (only the controller does).
+and a corrupt one fails the catalog item; xdist workers never write (only the controller does).
 """
 
 from __future__ import annotations
 
+import os
 from typing import Any
 
 from feeler.baseline.store import BaselineStore, is_writer
@@ -46,9 +47,14 @@ def check_catalog_against_baseline(
                                      per_tool=int(cfg.get("record_per_tool", 3)))  # fmt: skip
         store.write(catalog, outputs)
         return []
-    approved = store.catalog_or_none()
-    if approved is None:
+    if not store.exists():
         return []
+    from feeler.errors import BaselineError
+
+    try:  # a corrupt baseline fails the item: it must never let a run pass unnoticed
+        approved = store.read_catalog()
+    except BaselineError as exc:
+        return [f"the approved baseline cannot be used: {exc}"]
     problems: list[str] = []
     report = diff_catalogs(approved, catalog, samples=5, old_label="baseline", new_label="live")
     if report.changes:
@@ -59,9 +65,8 @@ def check_catalog_against_baseline(
             f"`feeler approve {target.spec}` or pytest --feeler-approve)",
             render(report, "text"),
         ]
-    if session is not None and store.outputs_path.exists():
+    if session is not None and os.path.lexists(store.outputs_path):
         from feeler.baseline.record import rerun_records
-        from feeler.errors import BaselineError
 
         try:
             records = store.read_outputs()

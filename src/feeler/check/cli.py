@@ -2,13 +2,16 @@
 
 from __future__ import annotations
 
+import math
 import sys
+import time
 from typing import Any
 
 import click
 
-from feeler.cli_options import ConnectOptions, target_options
+from feeler.cli_options import SECONDS, ConnectOptions, target_options
 from feeler.errors import UsageError
+from feeler.report.cli import report_options, write_from_options
 
 __all__ = ["check", "replay_command"]
 
@@ -21,6 +24,8 @@ def _budgets(values: tuple[str, ...], config: dict[str, Any]) -> dict[str, float
             out[name if sep else "*"] = float(seconds)
         except ValueError:
             raise UsageError(f"--budget {value!r}: expected SECONDS or TOOL=SECONDS") from None
+        if not (math.isfinite(out[name if sep else "*"]) and out[name if sep else "*"] > 0):
+            raise UsageError(f"--budget {value!r}: the seconds must be a finite number above 0")
     return out
 
 
@@ -59,6 +64,8 @@ def _list_checks(ctx: click.Context, _param: click.Parameter, value: bool) -> No
 @click.option("--every-revision", is_flag=True, help="Check under each protocol revision the server supports.")
 @click.option("--format", "fmt", type=click.Choice(["text", "json"]), default="text", show_default=True)
 @click.option("--replay-dir", default=None, help="Where replay files go [.feeler/replays].")
+@report_options
+@click.option("--call-log", default=None, metavar="FILE", help="Append one JSON line per tool call to FILE (see README, Call log).")
 @click.option("-v", "--verbose", is_flag=True, help="Show full arguments in findings.")
 def check(**kwargs: Any) -> int:
     """Call every tool of TARGET with go and no-go cases and check every answer.
@@ -75,6 +82,8 @@ def check(**kwargs: Any) -> int:
     fmt = kwargs.pop("fmt")
     verbose = kwargs.pop("verbose")
     every = kwargs.pop("every_revision")
+    report_dir, report_formats = kwargs.pop("report_dir"), kwargs.pop("report_formats")
+    call_log = kwargs.pop("call_log")
     names = kwargs["target"]
     configured = config.targets()
     if len(names) == 1 and names[0] in configured:
@@ -115,19 +124,34 @@ def check(**kwargs: Any) -> int:
         from feeler.check.revisions import check_every_revision
 
         return check_every_revision(opts, options, fmt=fmt, progress=progress)
-    report = Runner(opts.target, options, session_options=opts.session, progress=progress).run()
+    from feeler.report.document import now_iso
+
+    started, clock = now_iso(), time.monotonic()
+    runner = Runner(opts.target, options, session_options=opts.session, progress=progress)
+    if call_log:
+        from feeler.campaign.calllog import CallLog
+
+        with CallLog(call_log) as log:
+            runner.on_call = log.hook
+            report = runner.run()
+    else:
+        report = runner.run()
     if options.dry_run:
         for call in report.planned:
             click.echo(f"{call.tool}\t{call.kind}\t{call.keyword or '-'}\t{call.path or '-'}\t{call.arguments!r}")
         click.echo(f"feeler: {len(report.planned)} calls would be made (dry run)", err=True)
         return 0
     click.echo(report_json(report) if fmt == "json" else report_text(report, verbose=verbose), nl=False)
+    if report_dir:
+        from feeler.report import build_report
+
+        write_from_options(build_report(report, started_at=started, duration=time.monotonic() - clock), report_dir, report_formats)
     return report.exit_code()
 
 
 @click.command("replay")
 @click.argument("file", type=click.Path(dir_okay=False))
-@click.option("--timeout", type=click.FloatRange(min=0.1), default=30.0, show_default=True)
+@click.option("--timeout", type=SECONDS, default=30.0, show_default=True)
 def replay_command(file: str, timeout: float) -> int:
     """Send the request recorded in a replay FILE again and show the answer.
 

@@ -14,6 +14,7 @@ from datetime import datetime, timezone
 from typing import Any
 
 from feeler._files import write_text_atomic
+from feeler._read import read_json
 from feeler.catalog import Tool
 from feeler.check.findings import Finding
 from feeler.errors import TargetError, UsageError
@@ -43,18 +44,13 @@ def write_replay(folder: str, target: Target, finding: Finding) -> str:
 
 
 def load_replay(path: str) -> dict[str, Any]:
-    try:
-        with open(path, encoding="utf-8") as handle:
-            data = json.load(handle)
-    except OSError as exc:
-        raise UsageError(f"cannot read the replay file {path}: {exc.strerror}") from exc
-    except json.JSONDecodeError as exc:
-        raise UsageError(f"{path}:{exc.lineno}:{exc.colno}: the replay file is not valid JSON ({exc.msg})") from exc
-    if not isinstance(data, dict) or data.get("format") != REPLAY_FORMAT:
+    data = read_json(path, what="the replay file", fix="give a replay file written by `feeler check`")
+    if data.get("format") != REPLAY_FORMAT:
         raise UsageError(f"{path}: not a feeler replay file (expected format {REPLAY_FORMAT!r})")
-    for key in ("target", "request", "finding"):
-        if key not in data:
-            raise UsageError(f"{path}: the replay file has no {key!r}; write it again with `feeler check`")
+    for key, kind in (("target", dict), ("request", str), ("finding", dict)):
+        if not isinstance(data.get(key), kind):
+            raise UsageError(f"{path}: the replay file has no {key!r} {'object' if kind is dict else 'string'}; "
+                             "write it again with `feeler check`")
     return data
 
 

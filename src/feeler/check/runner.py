@@ -69,6 +69,10 @@ class RunOptions:
     #: chain runs (hypothesis stateful examples) and the most steps in one; 0 runs: no chain phase
     chain_runs: int = 20
     chain_steps: int = 8
+    #: liveness is checked after a failure or a timeout, and after every *alive_every* calls besides
+    alive_every: int = 20
+    #: hypothesis example database for drawn go cases (None: none); failing examples are retried first
+    example_db: Any = None
 
 
 @dataclass
@@ -182,6 +186,9 @@ class Runner:
         self.options = options or RunOptions()
         self.session_options = dict(session_options or {})
         self.progress = progress or (lambda _line: None)
+        #: called after each tool call with ``(tool, case, ctx, failed)``; the call log hooks in here
+        self.on_call: Callable[[Tool, Any, CallContext, list[str]], None] | None = None
+        self._calls_since_alive = 0
         self.checks: list[Check] = select_checks(self.options.checks, self.options.skip_checks)
         self.report = RunReport(target=target)
         self.session: Session | None = None
@@ -253,7 +260,10 @@ class Runner:
         try:
             self.open()
             assert self.report.catalog is not None
-            for tool in self.tools():
+            tools = self.tools()
+            for tool in tools:
+                self._prepare(tool)  # known values are checked before any call: a bad one stops the run at once
+            for tool in tools:
                 self.run_tool(tool)
             self.run_chains()
         finally:
@@ -335,6 +345,13 @@ class Runner:
             stats.schema_problem = str(exc)  # the schema_usable check reports it; no cases can be made
         self._evaluate(CallContext("catalog", tool, self.revision, self.era, self.settings))
 
+    def _prepare(self, tool: Tool) -> None:
+        if self.skip_reason(tool) is None:
+            try:
+                self._bases(tool, self.stats(tool))
+            except SchemaProblem:
+                pass  # the catalog checks report it when the tool's turn comes
+
     def _bases(self, tool: Tool, stats: ToolStats) -> list[Any]:
         from feeler.world.plan import prepare_tool
 
@@ -408,11 +425,13 @@ class Runner:
         from feeler.world.apply import CASE_SOURCES, with_values
 
         phases = [Phase.generate, Phase.shrink] if self.options.shrink else [Phase.generate]
+        if self.options.example_db is not None:
+            phases.insert(0, Phase.reuse)
 
         @settings(
             max_examples=self.options.go_examples,
             deadline=None,
-            database=None,
+            database=self.options.example_db,
             phases=phases,
             suppress_health_check=list(HealthCheck),
             verbosity=Verbosity.quiet,
@@ -427,6 +446,8 @@ class Runner:
             if failed:
                 raise _failure_type(failed[0])(failed)
 
+        # One database key per tool and schema: hypothesis would otherwise key every tool alike.
+        prop._hypothesis_internal_database_key = _database_key(tool)  # type: ignore[attr-defined]
         try:
             prop()
         except _CaseFailed:
@@ -493,7 +514,13 @@ class Runner:
         self._count(stats, ctx)
         self.world.after_call(tool, case, ctx, stats)
         failed = self._evaluate(ctx)
-        alive_failed = self._alive(tool, case)
+        if self.on_call is not None:
+            self.on_call(tool, case, ctx, failed)
+        self._calls_since_alive += 1
+        alive_failed: list[str] = []
+        if failed or ctx.failure is not None or self._calls_since_alive >= max(1, self.options.alive_every):
+            self._calls_since_alive = 0
+            alive_failed = self._alive(tool, case)
         if alive_failed or isinstance(ctx.failure, ServerExited):
             if not self._restart():
                 if collect:
@@ -595,6 +622,14 @@ class Runner:
         for finding in self.report.findings:
             if finding.request_text:
                 finding.replay = write_replay(self.options.replay_dir, self.target, finding)
+
+
+def _database_key(tool: Tool) -> bytes:
+    # The tool and its schema, not the target spec: shards and workers on other machines share examples.
+    import hashlib
+
+    schema = json.dumps(tool.input_schema, sort_keys=True, default=str)
+    return hashlib.sha256(f"feeler|{tool.name}|{schema}".encode()).digest()
 
 
 class _ToolAbandoned(Exception):
