@@ -360,6 +360,35 @@ def test_refuses_other_roots(tmp_path: Path) -> None:
         assert call({"root": "/srv/orchard", "depth": True})["isError"] is True
 
 
+def test_reads_under_listed_roots(tmp_path: Path) -> None:
+    with started(tmp_path, script("reads_under_listed_roots")) as wire:
+        wire.handshake()
+
+        def call(name: str, arguments: dict[str, Any]) -> dict[str, Any]:
+            return tool_result(wire.call("tools/call", {"name": name, "arguments": arguments}))
+
+        roots = call("list_roots", {})["structuredContent"]["roots"]
+        # MCP 2025-11-25 server/tools "Error Handling": refusals are isError results.
+        assert call("read_text", {"path": "/etc/hosts"})["isError"] is True
+        assert "isError" not in call("read_text", {"path": roots[0]})
+        assert call("stat_path", {"path": roots[1] + "/tide.txt"})["structuredContent"]["kind"] == "file"
+
+
+def test_records_lost_on_update(tmp_path: Path) -> None:
+    with started(tmp_path, script("records_lost_on_update")) as wire:
+        wire.handshake()
+
+        def call(name: str, arguments: dict[str, Any]) -> dict[str, Any]:
+            return tool_result(wire.call("tools/call", {"name": name, "arguments": arguments}))
+
+        made = call("create_record", {"title": "Tern"})["structuredContent"]
+        assert call("read_record", {"record_id": made["id"]})["structuredContent"] == made  # create then read works
+        updated = call("update_record", {"record_id": made["id"], "title": "Heron"})["structuredContent"]
+        assert updated["id"] == made["id"] and updated["version"] == 2
+        # The planted defect: the id update_record just returned is refused (isError, MCP server/tools).
+        assert call("read_record", {"record_id": updated["id"]})["isError"] is True
+
+
 def test_hangs_on_call(tmp_path: Path) -> None:
     with started(tmp_path, script("hangs_on_call")) as wire:
         wire.handshake()
