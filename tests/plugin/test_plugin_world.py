@@ -45,7 +45,9 @@ def test_listed_roots_open_the_read_tools_on_two_workers(pytester: pytest.Pytest
     assert _failed(result) == {"read_text[go]"} and any("[values_needed]" in line for line in result.outlines)
 
 
-@pytest.mark.parametrize("workers", [[], ["-n", "2"]], ids=["one-process", "two-workers"])
+@pytest.mark.parametrize(
+    "workers", [pytest.param([], marks=pytest.mark.slow), ["-n", "2"]], ids=["one-process", "two-workers"]
+)
 def test_read_your_writes_defect_fails_the_chains_item(pytester: pytest.Pytester, workers: list[str]) -> None:
     if workers:
         pytest.importorskip("xdist")
