@@ -63,7 +63,7 @@ CLOCK = _Clock()
 
 def run(samples: int, *, learn: bool, chain_runs: int) -> tuple[float, int, float, int]:
     """calls/s, calls, learning share of the time, chain findings."""
-    options = RunOptions(go_examples=samples, probes=False, replay_dir=None, learn=learn, chain_runs=chain_runs)
+    options = RunOptions(samples=samples, probes=False, replay_dir=None, learn=learn, chain_runs=chain_runs)
     runner = Runner(SERVER, options)
     runner.open()  # server start and catalog: not timed
     CLOCK.calls, CLOCK.learning = 0, 0.0

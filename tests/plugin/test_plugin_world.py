@@ -22,7 +22,7 @@ def _project(pytester: pytest.Pytester, server: str, extra: str = "") -> None:
     pytester.makefile(".toml", pyproject=f"""
         [tool.feeler]
         targets = {{ world = {command!r} }}
-        go_examples = 3
+        samples = 3
         replay_dir = "replays"
         {extra}
         """)  # fmt: skip
