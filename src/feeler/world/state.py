@@ -58,7 +58,7 @@ class World:
             if runner.skip_reason(tool) or not compile_schema(tool.input_schema).is_valid({}):
                 continue
             runner.progress(f"{tool.name}: discovery (no arguments)")
-            runner._call_case(tool, runner.stats(tool), Case("go", None, "$", "", {}, None, "boundary", "discovery"))
+            runner._call_case(tool, runner.stats(tool), Case("go", None, "$", "", {}, None, "schema", "discovery"))
 
     def after_call(self, tool: Tool, case: Any, ctx: CallContext, stats: Any) -> None:
         """Learn from a successful answer; count entered go cases by the provenance of learned values."""
@@ -102,7 +102,7 @@ class World:
             ex = failure.ctx.exchange
             answers = [f.text for f in ex.frames if f.direction == "in"] if ex is not None else []
             finding = Finding(
-                check=failure.check, severity=failure.problem.severity or "error", tool=last.tool, kind="chain",
+                check=failure.check, severity=failure.problem.severity or "error", tool=last.tool, kind="chain", source="chain",
                 message=failure.problem.message, error_class=failure.problem.error_class,
                 path=getattr(failure.ctx.case, "path", None) or None, arguments=last.arguments,
                 revision=runner.revision, request_text=ex.request_text if ex is not None else None,
