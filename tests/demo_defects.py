@@ -25,7 +25,8 @@ class Defect:
     :param tool: the tool that carries it.
     :param case_kind: ``"go"`` (schema-valid arguments) or ``"no-go"`` (schema-invalid arguments).
     :param keyword: the JSON Schema keyword involved (``None`` when none is).
-    :param path: the JSON path of the argument involved, ``$`` being the arguments object.
+    :param path: the instance location of the argument involved, a JSON Pointer (RFC 6901; ``""`` is the
+        arguments object).
     :param arguments: a concrete call that triggers it.
     :param behaviour: what the server does.
     :param expected_check: the check (issue 4 wording) that should report it.
@@ -51,7 +52,7 @@ DEFECTS: tuple[Defect, ...] = (
         tool="book_berth",
         case_kind="go",
         keyword="maximum",
-        path="$.nights",
+        path="/nights",
         arguments={"berth_code": "N-01", "vessel_name": "Tern", "arrival": "2026-05-01", "nights": 14, "contact": _CONTACT},
         behaviour='inputSchema says "maximum": 14; the implementation rejects 14 with isError: true '
         '("nights must be between 1 and 14"); 13 is accepted.',
@@ -63,7 +64,7 @@ DEFECTS: tuple[Defect, ...] = (
         tool="order_services",
         case_kind="no-go",
         keyword="pattern",
-        path="$.booking_ref",
+        path="/booking_ref",
         arguments={"booking_ref": "nope", "services": [{"service": "fuel", "quantity": 2}]},
         behaviour='inputSchema says booking_ref matches "^BK-[0-9]{6}$"; the pattern is published but never '
         "enforced, so any string is accepted with a success result.",
@@ -75,7 +76,7 @@ DEFECTS: tuple[Defect, ...] = (
         tool="register_vessel",
         case_kind="go",
         keyword=None,
-        path="$.vessel_name",
+        path="/vessel_name",
         arguments={
             "vessel_name": "Ωmega",
             "home_port": "Saltmarsh",
@@ -95,7 +96,7 @@ DEFECTS: tuple[Defect, ...] = (
         tool="quote_fee",
         case_kind="go",
         keyword="required",
-        path="$.total_cents",
+        path="/total_cents",
         arguments={"length_m": 9.5, "nights": 3, "season": "low", "discount_code": "CLUB10"},
         behaviour="with the optional discount_code, structuredContent omits the required total_cents "
         "(it carries discounted_total_cents instead); without it the output conforms.",

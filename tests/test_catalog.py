@@ -1,7 +1,7 @@
 """Catalog capture of the demo over stdio, Streamable HTTP and in-process, in both eras, and the canonical form.
 
 Outside references: MCP 2026-07-28 basic/versioning and basic/transports ("backward compatibility": a
-dual-era client that prefers the newest revision lands in the modern era when the server speaks it),
+dual-era client that prefers the newest revision lands in the stateless era when the server speaks it),
 MCP 2025-11-25 basic/lifecycle (a pinned handshake revision is echoed), MCP 2025-11-25 server/tools,
 server/prompts, server/resources (the list methods and their pagination), JSON Schema 2020-12 Core
 section 4.2.2 (1.0 and 1 are the same number, which is why the canonical form writes 1).
@@ -47,8 +47,8 @@ def catalogs(demo_http_url: str, demo_stdio: Target) -> Iterator[dict[tuple[str,
 @pytest.mark.parametrize("kind", TRANSPORTS)
 def test_automatic_detection_lands_in_the_modern_era(catalogs: dict[Any, Catalog], kind: str) -> None:
     cat = catalogs[(kind, None)]
-    # MCP 2026-07-28 basic/transports, backward compatibility: server/discover answered -> modern era
-    assert (cat.revision, cat.era) == ("2026-07-28", "modern")
+    # MCP 2026-07-28 basic/transports, backward compatibility: server/discover answered -> stateless era
+    assert (cat.revision, cat.era) == ("2026-07-28", "stateless")
     # MCP 2026-07-28 server/discover: supportedVersions lists the revision in use
     assert "2026-07-28" in cat.supported_revisions
 
@@ -134,8 +134,8 @@ def test_the_canonical_text_round_trips(catalogs: dict[Any, Catalog]) -> None:
     "text, fragment",
     [
         ("{not json", "not valid JSON"),
-        ('{"format": "other/9", "revision": "2025-11-25", "era": "handshake"}', "format"),
-        (f'{{"format": "{CATALOG_FORMAT}", "revision": 5, "era": "handshake"}}', "revision"),
+        ('{"format": "other/9", "protocolVersion": "2025-11-25", "era": "handshake"}', "format"),
+        (f'{{"format": "{CATALOG_FORMAT}", "protocolVersion": 5, "era": "handshake"}}', "protocolVersion"),
         ("[]", "JSON object"),
     ],
 )

@@ -64,7 +64,7 @@ def test_never_initializes(capsys: pytest.CaptureFixture[str]) -> None:
 
 def test_pinning_a_revision_the_server_lacks(capsys: pytest.CaptureFixture[str]) -> None:
     script = str(SERVERS / "modern_only.py")
-    assert run(["catalog", "--revision", "2025-11-25", "--timeout", "3", "--", PY, script]) == 2
+    assert run(["catalog", "--protocol-version", "2025-11-25", "--timeout", "3", "--", PY, script]) == 2
     _one_error_line(capsys, script, "-32022", "2026-07-28")  # MCP 2026-07-28 basic/versioning
 
 
@@ -88,12 +88,12 @@ def test_catalog_to_stdout_is_the_canonical_text(capsys: pytest.CaptureFixture[s
     assert run(["catalog", "feeler.demo.server:server"]) == 0
     out = capsys.readouterr().out
     assert out == Catalog.loads(out).dumps() and out.endswith("\n")
-    assert json.loads(out)["revision"] == "2026-07-28"
+    assert json.loads(out)["protocolVersion"] == "2026-07-28"
 
 
 def test_catalog_output_file_is_written_atomically(capsys: pytest.CaptureFixture[str], tmp_path: Path, monkeypatch: Any) -> None:
     target = tmp_path / "sub" / "catalog.json"
-    assert run(["catalog", "--revision", "2025-11-25", "-o", str(target), "feeler.demo.server:server"]) == 0
+    assert run(["catalog", "--protocol-version", "2025-11-25", "-o", str(target), "feeler.demo.server:server"]) == 0
     captured = capsys.readouterr()
     assert captured.out == "" and str(target) in captured.err
     text = target.read_text(encoding="utf-8")

@@ -48,7 +48,7 @@ def test_loading_errors_name_the_target(spec: str, fragment: str) -> None:
 
 def test_an_inprocess_session_works_in_both_eras() -> None:
     with connected(INPROCESS, timeout=10) as session:
-        assert session.era == "modern"  # MCP 2026-07-28 server/discover answered
+        assert session.era == "stateless"  # MCP 2026-07-28 server/discover answered
         ex = session.call_tool("list_berths", {"zone": "north"})
         assert ex.result["resultType"] == "complete" and not ex.is_error_result
         assert session.transport.alive()

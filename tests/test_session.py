@@ -132,7 +132,7 @@ def test_huge_answer_is_cut_off_and_the_session_goes_on(server_target: Callable[
 
 def test_slow_start_works_with_default_timeouts(server_target: Callable[..., Target]) -> None:
     with connected(server_target("slow_start", env={"FEELER_SLOW_START_S": "1"})) as session:
-        assert session.era == "modern"
+        assert session.era == "stateless"
         assert session.call_tool("echo", {"text": "late"}).result["content"][0]["text"] == "late"
 
 
@@ -154,7 +154,7 @@ def test_server_requests_are_answered_and_recorded(server_target: Callable[..., 
 def test_modern_only(server_target: Callable[..., Target]) -> None:
     target = server_target("modern_only")
     with connected(target, timeout=3) as session:
-        assert (session.era, session.revision) == ("modern", "2026-07-28")
+        assert (session.era, session.revision) == ("stateless", "2026-07-28")
         assert session.call_tool("echo", {"text": "m"}).result["resultType"] == "complete"
     with pytest.raises(HandshakeError) as caught:
         open_session(target, timeout=3, revision="2025-11-25")

@@ -15,12 +15,12 @@ SERVER = Path(__file__).resolve().parent / "servers" / "input_required.py"
 def test_input_required_result_is_recorded_and_not_judged_as_success() -> None:
     target = Target(kind="stdio", command=(sys.executable, str(SERVER)))
     with connected(target, timeout=5.0) as session:
-        assert session.era == "modern"
+        assert session.era == "stateless"
         ex = session.call_tool("echo", {"text": 5})  # a no-go case (text must be a string)
         # MCP 2026-07-28 basic/patterns/mrtr: resultType "input_required" with inputRequests/requestState.
         assert ex.input_required
         assert list(session.log.input_required) == [ex]
         assert ex.result["requestState"] == "opaque-state-1"
-        ctx = CallContext("no-go", None, str(session.revision), "modern", CheckSettings(), exchange=ex)
-        # Asking for input is not accepting the arguments: nogo_rejected stays silent (nothing was run yet).
-        assert CHECKS["nogo_rejected"].run(ctx) == []
+        ctx = CallContext("no-go", None, str(session.revision), "stateless", CheckSettings(), exchange=ex)
+        # Asking for input is not accepting the arguments: nogo_stops stays silent (nothing was run yet).
+        assert CHECKS["nogo_stops"].run(ctx) == []

@@ -36,7 +36,7 @@ def test_mcp_server_time(revision: str | None) -> None:
     cat = capture_catalog(_time_server(), revision=revision, timeout=20, probe_timeout=5)
     names = {tool["name"] for tool in cat.tools}
     assert {"get_current_time", "convert_time"} <= names
-    assert cat.era in ("modern", "handshake")
+    assert cat.era in ("stateless", "handshake")
     if revision is not None:
         assert (cat.revision, cat.era) == (revision, "handshake")
     # MCP 2025-11-25 server/tools: every inputSchema is an object schema

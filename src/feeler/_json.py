@@ -7,7 +7,17 @@ import math
 from collections.abc import Iterable
 from typing import Any, Union
 
-__all__ = ["JSON", "JSONObject", "canonical_dumps", "canonical_value", "json_path", "json_type"]
+__all__ = [
+    "JSON",
+    "JSONObject",
+    "canonical_dumps",
+    "canonical_value",
+    "json_path",
+    "json_pointer",
+    "json_type",
+    "path_parts",
+    "to_pointer",
+]
 
 JSON = Union[None, bool, int, float, str, list["JSON"], dict[str, "JSON"]]
 JSONObject = dict[str, Any]
@@ -66,3 +76,58 @@ def json_path(parts: Iterable[str | int]) -> str:
         else:
             out += "[" + json.dumps(part) + "]"
     return out
+
+
+def json_pointer(parts: Iterable[str | int]) -> str:
+    """Render a path as a JSON Pointer (RFC 6901): ``/a/0/b``, ``""`` for the root, ``~0``/``~1`` escaped."""
+    return "".join("/" + str(part).replace("~", "~0").replace("/", "~1") for part in parts)
+
+
+def path_parts(path: str) -> list[str | int]:
+    """Read a path written as ``$.a[0].b`` / ``$['a b']`` or as a JSON Pointer ``/a/0/b`` into its parts.
+
+    Users may type either form where an option takes a path; reports always show JSON Pointers.
+    In a pointer, every token is a string (RFC 6901 does not say whether ``0`` is an index).
+    """
+    text = path.strip()
+    if text == "" or text == "$":
+        return []
+    if text.startswith("/"):
+        return [tok.replace("~1", "/").replace("~0", "~") for tok in text[1:].split("/")]
+    if not text.startswith("$"):
+        raise ValueError(f"path={path!r} is neither a JSON Pointer (/a/0) nor a $-path ($.a[0])")
+    parts: list[str | int] = []
+    i, n = 1, len(text)
+    while i < n:
+        if text[i] == ".":
+            j = i + 1
+            while j < n and text[j] not in ".[":
+                j += 1
+            parts.append(text[i + 1 : j])
+            i = j
+        elif text[i] == "[":
+            if text[i + 1 : i + 2] in ('"', "'"):
+                decoder = json.JSONDecoder()
+                quote = text[i + 1]
+                if quote == '"':
+                    value, end = decoder.raw_decode(text, i + 1)
+                else:
+                    end = text.index("'", i + 2) + 1
+                    value = text[i + 2 : end - 1]
+                parts.append(value)
+                i = end + 1
+            else:
+                j = text.index("]", i)
+                token = text[i + 1 : j]
+                parts.append(int(token) if token.lstrip("-").isdigit() else token)
+                i = j + 1
+        else:
+            raise ValueError(f"path={path!r}: unexpected {text[i]!r} at position {i}")
+    return parts
+
+
+def to_pointer(path: str | None) -> str | None:
+    """*path* (either form, see :func:`path_parts`) as a JSON Pointer; ``None`` stays ``None``."""
+    if path is None:
+        return None
+    return json_pointer(path_parts(path))

@@ -20,7 +20,19 @@ from feeler.errors import UsageError
 __all__ = ["CATALOG_FORMAT", "Catalog", "Tool"]
 
 #: Stamped into every catalog file; bumped when the layout changes incompatibly.
-CATALOG_FORMAT = "feeler-catalog/1"
+CATALOG_FORMAT = "feeler-catalog/2"
+#: Older catalog formats still read (``revision``/``supportedRevisions`` keys, era ``modern``).
+_OLD_CATALOG_FORMATS = ("feeler-catalog/1",)
+
+
+def _from_old_catalog(data: dict[str, Any]) -> dict[str, Any]:
+    """A ``feeler-catalog/1`` document with today's key names (``protocolVersion``, ``supportedVersions``)."""
+    out = {k: v for k, v in data.items() if k not in ("revision", "supportedRevisions")}
+    out["protocolVersion"] = data.get("revision")
+    out["supportedVersions"] = data.get("supportedRevisions") or []
+    if out.get("era") == "modern":
+        out["era"] = "stateless"
+    return out
 
 
 @dataclass(frozen=True)
@@ -85,7 +97,7 @@ class Catalog:
     :param revision: the negotiated protocol revision, e.g. ``"2025-11-25"``.
     :param supported_revisions: what the server said it supports (``server/discover``), or the
         negotiated revision alone in the handshake era.
-    :param era: ``"handshake"`` (initialize) or ``"modern"`` (2026-07-28 and later, no handshake).
+    :param era: ``"handshake"`` (initialize) or ``"stateless"`` (2026-07-28 and later, no handshake).
     """
 
     revision: str
@@ -119,9 +131,9 @@ class Catalog:
     def to_json(self) -> dict[str, Any]:
         out: dict[str, Any] = {
             "format": CATALOG_FORMAT,
-            "revision": self.revision,
+            "protocolVersion": self.revision,
             "era": self.era,
-            "supportedRevisions": list(self.supported_revisions),
+            "supportedVersions": list(self.supported_revisions),
             "server": dict(self.server),
             "capabilities": dict(self.capabilities),
             "tools": list(self.tools),
@@ -143,12 +155,14 @@ class Catalog:
         if not isinstance(data, dict):
             raise UsageError(f"{source}: expected a JSON object with a catalog, got {type(data).__name__}")
         fmt = data.get("format")
-        if fmt != CATALOG_FORMAT:
+        if fmt in _OLD_CATALOG_FORMATS:
+            data = _from_old_catalog(data)
+        elif fmt != CATALOG_FORMAT:
             raise UsageError(
                 f"{source}: format={fmt!r} is not a catalog this feeler reads (expected {CATALOG_FORMAT!r}); "
                 "write it again with `feeler catalog`"
             )
-        for key in ("revision", "era"):
+        for key in ("protocolVersion", "era"):
             if not isinstance(data.get(key), str):
                 raise UsageError(f"{source}: {key!r} must be a string")
         for key in ("tools", "prompts", "resources", "resourceTemplates"):
@@ -167,10 +181,10 @@ class Catalog:
         if not isinstance(data.get("supportedRevisions") or [], list):
             raise UsageError(f"{source}: 'supportedRevisions' must be a list")
         return cls(
-            revision=data["revision"],
+            revision=data["protocolVersion"],
             era=data["era"],
             server=dict(data.get("server") or {}),
-            supported_revisions=list(data.get("supportedRevisions") or []),
+            supported_revisions=list(data.get("supportedVersions") or []),
             capabilities=dict(data.get("capabilities") or {}),
             instructions=data.get("instructions"),
             tools=list(data.get("tools", [])),

@@ -100,3 +100,5 @@ def main() -> None:
     sys.exit(run())
 
 
+if __name__ == "__main__":  # pragma: no cover - python -m feeler.cli
+    main()

@@ -13,7 +13,7 @@ from feeler.revisions import KNOWN_REVISIONS
 from feeler.target import Target
 from feeler.transport.base import DEFAULT_MAX_MESSAGE_BYTES
 
-__all__ = ["SECONDS", "ConnectOptions", "Seconds", "connect_options", "target_options"]
+__all__ = ["SECONDS", "ConnectOptions", "Seconds", "apply_renamed", "connect_options", "renamed_option", "target_options"]
 
 F = TypeVar("F", bound=Callable[..., Any])
 
@@ -46,6 +46,33 @@ def _pairs(values: tuple[str, ...], sep: str, option: str) -> dict[str, str]:
     return out
 
 
+def renamed_option(old: str, new: str, dest: str, **attrs: Any) -> Callable[[F], F]:
+    """A hidden option under its *old* name that feeds *dest* (the new option's value) with a notice.
+
+    The command calls :func:`apply_renamed` on its keyword arguments; the new option wins when both
+    are given.
+    """
+
+    def store(ctx: click.Context, _param: click.Parameter, value: Any) -> None:
+        if value in (None, (), False):
+            return
+        from feeler._deprecated import notice
+
+        notice(old, new)
+        ctx.meta.setdefault("feeler.renamed", {})[dest] = value
+
+    return click.option(old, f"_renamed_{dest}", hidden=True, expose_value=False, callback=store, **attrs)
+
+
+def apply_renamed(kwargs: dict[str, Any]) -> dict[str, Any]:
+    """Fill *kwargs* from options given under an old name (see :func:`renamed_option`)."""
+    ctx = click.get_current_context(silent=True)
+    for dest, value in ((ctx.meta.get("feeler.renamed") or {}) if ctx else {}).items():
+        if kwargs.get(dest) in (None, (), False):
+            kwargs[dest] = value
+    return kwargs
+
+
 class ConnectOptions:
     """The target and session options a command was given."""
 
@@ -58,8 +85,9 @@ class ConnectOptions:
             headers=_pairs(kwargs.pop("header"), ":", "--header"),
             bearer_env=kwargs.pop("bearer_env"),
         )
+        apply_renamed(kwargs)
         self.session = {
-            "revision": kwargs.pop("revision"),
+            "revision": kwargs.pop("protocol_version"),
             "timeout": kwargs.pop("timeout"),
             "max_message_bytes": kwargs.pop("max_message_bytes"),
         }
@@ -83,13 +111,14 @@ def target_options(func: F) -> F:
 
 
 def connect_options(func: F) -> F:
-    """Session options: revision pin, timeout, answer size cap."""
+    """Session options: protocol version pin, timeout, answer size cap."""
     decorators = [
         click.option(
-            "--revision",
+            "--protocol-version",
             type=click.Choice(KNOWN_REVISIONS),
-            help="Pin one protocol revision instead of detecting the era and negotiating.",
+            help="Pin one protocol version instead of detecting the era and negotiating.",
         ),
+        renamed_option("--revision", "--protocol-version", "protocol_version", type=click.Choice(KNOWN_REVISIONS)),
         click.option("--timeout", type=SECONDS, default=30.0, show_default=True, help="Seconds to wait for each answer."),
         click.option(
             "--max-message-bytes",

@@ -9,7 +9,7 @@ import click
 
 from feeler._files import write_text_atomic
 from feeler.catalog import Catalog
-from feeler.cli_options import ConnectOptions, target_options
+from feeler.cli_options import ConnectOptions, apply_renamed, renamed_option, target_options
 from feeler.connect import capture_catalog
 from feeler.errors import UsageError
 
@@ -17,10 +17,10 @@ __all__ = ["catalog", "demo", "summary"]
 
 
 def summary(cat: Catalog) -> str:
-    """A few lines a person reads: server, revision, and one line per tool."""
+    """A few lines a person reads: server, protocol version, and one line per tool."""
     server = cat.server.get("name", "?") + (f" {cat.server['version']}" if cat.server.get("version") else "")
     lines = [
-        f"server {server}, revision {cat.revision} ({cat.era} era)",
+        f"server {server}, protocol version {cat.revision} ({cat.era} era)",
         f"{len(cat.tools)} tools, {len(cat.prompts)} prompts, {len(cat.resources)} resources, "
         f"{len(cat.resource_templates)} resource templates",
     ]
@@ -65,9 +65,10 @@ def catalog(output: str | None, **kwargs: Any) -> int:
 
 
 @click.command("demo")
-@click.option("--go-examples", type=click.IntRange(min=0), default=10, show_default=True, help="Drawn go cases per tool.")
+@click.option("--samples", type=click.IntRange(min=0), default=10, show_default=True, help="Sampled go cases per tool.")
+@renamed_option("--go-examples", "--samples", "samples", type=click.IntRange(min=0))
 @click.option("--replay-dir", default=".feeler/replays", show_default=True, help="Where replay files go.")
-def demo(go_examples: int, replay_dir: str) -> int:
+def demo(samples: int, replay_dir: str) -> int:
     """Check feeler's bundled demo server (a harbour office with a few defects), served over stdio.
 
     Shows what feeler does on a server you do not have to write: the demo's catalog, then every
@@ -79,7 +80,8 @@ def demo(go_examples: int, replay_dir: str) -> int:
 
     target = Target(kind="stdio", command=(sys.executable, "-m", "feeler.demo"))
     progress = (lambda line: click.echo(line, err=True)) if sys.stderr.isatty() else None
-    runner = Runner(target, RunOptions(go_examples=go_examples, replay_dir=replay_dir), progress=progress)
+    samples = apply_renamed({"samples": None}).get("samples") or samples
+    runner = Runner(target, RunOptions(samples=samples, replay_dir=replay_dir), progress=progress)
     report = runner.run()
     assert report.catalog is not None
     click.echo(summary(report.catalog))

@@ -7,7 +7,7 @@ Example::
     exclude = ["purge_*"]
     budgets = { "*" = 2.0, slow_report = 10.0 }
     strict_go = false
-    go_examples = 20
+    depth = "standard"
     output_masks = ["$.structuredContent.issuedAt"]
 
     [tool.feeler.values]            # values from the server's world (feeler.world.known)
@@ -40,13 +40,13 @@ _KEYS: dict[str, tuple[tuple[type, ...], str]] = {
     "allow_destructive": ((bool,), "true or false"),
     "strict_go": ((bool,), "true or false"),
     "budgets": ((dict,), "a table of tool name (or \"*\") = seconds"),
-    "go_examples": ((int,), "a whole number"),
-    "seed": ((int,), "a whole number"),
-    "revision": ((str,), "a protocol revision"),
+    "samples": ((int,), "a whole number of sampled go cases per tool"),
+    "sample_seed": ((int,), "a whole number"),
+    "depth": ((str,), "quick, standard or deep"),
+    "protocol_version": ((str,), "a protocol version such as 2025-11-25"),
     "timeout": ((int, float), "seconds"),
-    "checks": ((list,), "a list of check names"),
+    "only_checks": ((list,), "a list of check names"),
     "skip_checks": ((list,), "a list of check names"),
-    "profile": ((str,), "a hypothesis settings profile name: ci, dev or nightly"),
     "baselines": ((str,), "a folder"),
     "output_masks": ((list,), "a list of JSON paths ($.structuredContent.issuedAt, * for any key)"),
     "output_mask_patterns": ((list,), "a list of regular expressions over string values"),
@@ -55,6 +55,15 @@ _KEYS: dict[str, tuple[tuple[type, ...], str]] = {
     "replay_dir": ((str,), "a folder"),
     "values": ((dict,), "a table of [TOOL:]PROPERTY (or $.path) = value (a list: one of these)"),
     "values_hook": ((str,), "\"package.module:function\" returning hypothesis strategies per property"),
+}
+
+#: Old key -> its new name; read for one release with a notice (``profile`` values are mapped too).
+RENAMED_KEYS: dict[str, str] = {
+    "go_examples": "samples",
+    "seed": "sample_seed",
+    "revision": "protocol_version",
+    "checks": "only_checks",
+    "profile": "depth",
 }
 
 
@@ -140,6 +149,7 @@ def load_config(path: str | None = None, *, start: str | None = None) -> Config:
     table = tool.get("feeler", {})
     if not isinstance(table, dict):
         raise UsageError(f"{path}: [tool.feeler] must be a table, got {type(table).__name__} {table!r}"[:300])
+    table = _renamed(dict(table))
     for key, value in table.items():
         if key not in _KEYS:
             close = difflib.get_close_matches(key, list(_KEYS), n=1)
@@ -149,6 +159,11 @@ def load_config(path: str | None = None, *, start: str | None = None) -> Config:
         if not isinstance(value, types) or (isinstance(value, bool) and bool not in types):
             raise UsageError(f"{path}: [tool.feeler] {key}={value!r} must be {what}"[:400])
         _check_inside(path, key, value)
+    if "depth" in table:
+        from feeler.depth import DEPTHS
+
+        if table["depth"] not in DEPTHS:
+            raise UsageError(f"{path}: [tool.feeler] depth={table['depth']!r} must be one of {', '.join(DEPTHS)}")
     config = Config(source=path, values=table)
     config.targets()  # every target entry is checked now, not when first used
     return config
@@ -171,3 +186,18 @@ def _check_inside(path: str, key: str, value: Any) -> None:
                 math.isfinite(seconds) and seconds > 0
             ):
                 raise UsageError(f"{where}.{name}={seconds!r} must be a positive number of seconds"[:400])
+
+
+def _renamed(table: dict[str, Any]) -> dict[str, Any]:
+    """*table* with old key names moved to their new names (a notice for each); the new name wins."""
+    from feeler._deprecated import notice
+    from feeler.depth import OLD_PROFILES
+
+    for old, new in RENAMED_KEYS.items():
+        if old in table:
+            notice(f"[tool.feeler] {old}", f"{new}")
+            value = table.pop(old)
+            if old == "profile" and isinstance(value, str):
+                value = OLD_PROFILES.get(value, value)
+            table.setdefault(new, value)
+    return table

@@ -4,9 +4,9 @@ When ``[tool.feeler] targets`` (pyproject.toml) or ``--feeler-target`` names ser
 test items per target x tool x kind::
 
     feeler::<target>::catalog                 the catalog itself (and its baseline, if one is approved)
-    feeler::<target>::<tool>[go]              go cases must be accepted
-    feeler::<target>::<tool>[no-go]           no-go cases must be rejected cleanly
-    feeler::<target>::<tool>[protocol]        protocol-level no-go requests
+    feeler::<target>::<tool>[go]              go cases must enter
+    feeler::<target>::<tool>[no-go]           no-go cases must be stopped cleanly
+    feeler::<target>::<tool>[probe]           malformed requests (protocol level)
     feeler::<target>::chains                  call chains (sequences linked by returned values)
 
 They work with ``-k``, ``-x``, ``-n`` (pytest-xdist: each worker opens its own session) and
@@ -18,7 +18,6 @@ This module stays cheap to import: everything heavy is imported inside hooks.
 
 from __future__ import annotations
 
-import os
 from typing import TYPE_CHECKING, Any
 
 import pytest
@@ -27,25 +26,25 @@ if TYPE_CHECKING:
     from feeler.check.runner import Runner
     from feeler.target import Target
 
-__all__ = ["PROFILES"]
+__all__: list[str] = []
 
 GROUP = "feeler"
 OPT_TARGET = "--feeler-target"
-OPT_PROFILE = "--feeler-profile"
+OPT_DEPTH = "--feeler-depth"
 OPT_DESTRUCTIVE = "--feeler-allow-destructive"
-OPT_STRICT = "--feeler-strict"
-OPT_SEED = "--feeler-seed"
-OPT_REVISION = "--feeler-revision"
+OPT_STRICT_GO = "--feeler-strict-go"
+OPT_SAMPLE_SEED = "--feeler-sample-seed"
+OPT_PROTOCOL_VERSION = "--feeler-protocol-version"
 OPT_APPROVE = "--feeler-approve"
 OPT_OFF = "--feeler-off"
-
-#: Settings profiles: drawn go cases per tool, and whether failures are shrunk.
-PROFILES: dict[str, dict[str, Any]] = {
-    "dev": {"go_examples": 10, "shrink": True},
-    "ci": {"go_examples": 20, "shrink": True},
-    "nightly": {"go_examples": 500, "shrink": True},
+#: Former option -> (its new name, its dest): accepted for one release with a notice.
+RENAMED_OPTIONS: dict[str, tuple[str, str]] = {
+    "--feeler-profile": (OPT_DEPTH, "feeler_depth"),
+    "--feeler-strict": (OPT_STRICT_GO, "feeler_strict_go"),
+    "--feeler-seed": (OPT_SAMPLE_SEED, "feeler_sample_seed"),
+    "--feeler-revision": (OPT_PROTOCOL_VERSION, "feeler_protocol_version"),
 }
-_KINDS = ("go", "no-go", "protocol")
+_KINDS = ("go", "no-go", "probe")
 _plugin_key = pytest.StashKey["FeelerPlugin"]()
 
 
@@ -54,21 +53,45 @@ def pytest_addoption(parser: pytest.Parser) -> None:
     group.addoption(OPT_TARGET, action="append", default=[], metavar="TARGET",
                     help="A server to test: URL, module:attribute, or a quoted command line (repeatable). "
                     "Adds to [tool.feeler] targets.")  # fmt: skip
-    group.addoption(OPT_PROFILE, choices=sorted(PROFILES), default=None,
-                    help="How hard to try: dev, ci (default when $CI is set) or nightly.")  # fmt: skip
+    group.addoption(OPT_DEPTH, choices=["quick", "standard", "deep"], default=None,
+                    help="How many cases: quick, standard (the default, locally and in CI) or deep.")  # fmt: skip
     group.addoption(OPT_DESTRUCTIVE, action="store_true", default=False,
                     help="Also call tools annotated destructiveHint: true. Never against production.")  # fmt: skip
-    group.addoption(OPT_STRICT, action="store_true", default=False, help="isError on a go case fails the item.")
-    group.addoption(OPT_SEED, type=int, default=None, help="Seed for generated cases (default 0).")
-    group.addoption(OPT_REVISION, default=None, help="Pin one protocol revision.")
+    group.addoption(OPT_STRICT_GO, action="store_true", default=False, help="isError on a go case fails the item.")
+    group.addoption(OPT_SAMPLE_SEED, type=int, default=None, help="Seed of the sampled go cases (default 0).")
+    group.addoption(OPT_PROTOCOL_VERSION, default=None, help="Pin one protocol version (e.g. 2025-11-25).")
+    import argparse
+
+    group.addoption("--feeler-profile", dest="feeler_old_profile", choices=["dev", "ci", "nightly"], default=None,
+                    help=argparse.SUPPRESS)  # fmt: skip
+    group.addoption("--feeler-strict", dest="feeler_old_strict", action="store_true", default=False, help=argparse.SUPPRESS)
+    group.addoption("--feeler-seed", dest="feeler_old_seed", type=int, default=None, help=argparse.SUPPRESS)
+    group.addoption("--feeler-revision", dest="feeler_old_revision", default=None, help=argparse.SUPPRESS)
     group.addoption(OPT_APPROVE, action="store_true", default=False,
                     help="Write the live catalog as the new approved baseline instead of comparing with it.")  # fmt: skip
     group.addoption(OPT_OFF, action="store_true", default=False, help="Add no feeler items even if targets are configured.")
 
 
+def _apply_renamed_options(config: pytest.Config) -> None:
+    """Move values given under a former option name to the new option (with a notice)."""
+    from feeler._deprecated import notice
+    from feeler.depth import OLD_PROFILES
+
+    opt = config.option
+    for old, (new, dest) in RENAMED_OPTIONS.items():
+        value = getattr(opt, "feeler_old_" + old.rsplit("-", 1)[-1], None)
+        if value in (None, False):
+            continue
+        notice(old, new)
+        if old == "--feeler-profile":
+            value = OLD_PROFILES[value]
+        if getattr(opt, dest, None) in (None, False):
+            setattr(opt, dest, value)
+
+
 def pytest_configure(config: pytest.Config) -> None:
     config.addinivalue_line("markers", "feeler: an item generated by feeler from a server's catalog")
-    _register_hypothesis_profiles()
+    _apply_renamed_options(config)
     if config.getoption(OPT_OFF):
         return
     from feeler.config import load_config
@@ -90,13 +113,6 @@ def pytest_configure(config: pytest.Config) -> None:
     config.pluginmanager.register(plugin, "feelerplugin")
 
 
-def _register_hypothesis_profiles() -> None:
-    from hypothesis import settings
-
-    for name, values in PROFILES.items():
-        settings.register_profile(f"feeler-{name}", max_examples=values["go_examples"], deadline=None)
-
-
 def pytest_unconfigure(config: pytest.Config) -> None:
     plugin = config.stash.get(_plugin_key, None)
     if plugin is not None:
@@ -114,34 +130,34 @@ class FeelerPlugin:
         self.targets = targets
         self.runners: dict[str, Runner] = {}
         self.catalog_errors: dict[str, str] = {}
-        profile = config.getoption(OPT_PROFILE) or cfg.get("profile") or ("ci" if os.environ.get("CI") else "dev")
-        if profile not in PROFILES:
-            raise pytest.UsageError(f"feeler: profile={profile!r} must be one of {', '.join(PROFILES)}")
-        self.profile = profile
+        from feeler.depth import DEFAULT_DEPTH
+
+        # The same default locally and in CI, so a run on a laptop draws the cases CI drew.
+        self.depth = config.getoption(OPT_DEPTH) or cfg.get("depth") or DEFAULT_DEPTH
 
     # -- runners ----------------------------------------------------------------------------------
     def options(self) -> Any:
         from feeler.check.registry import CheckSettings
         from feeler.check.runner import RunOptions
+        from feeler.depth import samples_for
         from feeler.world.known import known_pool
 
         cfg, config = self.cfg, self.config
-        seed = config.getoption(OPT_SEED)
-        seed = seed if seed is not None else cfg.get("seed", 0)
+        seed = config.getoption(OPT_SAMPLE_SEED)
+        seed = seed if seed is not None else cfg.get("sample_seed", 0)
         return RunOptions(
             values=known_pool((), cfg.get("values"), cfg.get("values_hook"), seed=seed),
-            seed=seed,
-            go_examples=cfg.get("go_examples", PROFILES[self.profile]["go_examples"]),
+            sample_seed=seed,
+            samples=cfg.get("samples", samples_for(self.depth)) if not config.getoption(OPT_DEPTH) else samples_for(self.depth),
             include=list(cfg.get("include", [])),
             exclude=list(cfg.get("exclude", [])),
             allow_destructive=config.getoption(OPT_DESTRUCTIVE) or bool(cfg.get("allow_destructive", False)),
-            checks=cfg.get("checks"),
+            checks=cfg.get("only_checks"),
             skip_checks=list(cfg.get("skip_checks", [])),
             settings=CheckSettings(
-                strict_go=config.getoption(OPT_STRICT) or bool(cfg.get("strict_go", False)),
+                strict_go=config.getoption(OPT_STRICT_GO) or bool(cfg.get("strict_go", False)),
                 latency_budget={str(k): float(v) for k, v in (cfg.get("budgets") or {}).items()},
             ),
-            shrink=PROFILES[self.profile]["shrink"],
             replay_dir=cfg.get("replay_dir", ".feeler/replays"),
         )
 
@@ -149,7 +165,7 @@ class FeelerPlugin:
         from feeler.check.runner import Runner
 
         if name not in self.runners:
-            revision = self.config.getoption(OPT_REVISION) or self.cfg.get("revision")
+            revision = self.config.getoption(OPT_PROTOCOL_VERSION) or self.cfg.get("protocol_version")
             session_options = {"revision": revision, "timeout": float(self.cfg.get("timeout", 30.0))}
             self.runners[name] = Runner(self.targets[name], self.options(), session_options=session_options)
         return self.runners[name]
@@ -278,8 +294,8 @@ class FeelerItem(pytest.Item):
 
 
 def _kind_of(kind: str) -> str:
-    # Tool-level verdicts (accepts_some_go, values_needed) are drawn from the go cases: the [go] item shows them.
-    return {"probe": "protocol", "tool": "go"}.get(kind, kind)
+    # Tool-level verdicts (gate_opens, values_needed) are drawn from the go cases: the [go] item shows them.
+    return "go" if kind == "tool" else kind
 
 
 def _lines(findings: list[Any]) -> list[str]:
@@ -327,7 +343,7 @@ def feeler_session(feeler_target: Any, request: pytest.FixtureRequest) -> Any:
     """A connected :class:`~feeler.session.Session` on the configured target, closed after the run."""
     from feeler.connect import open_session
 
-    revision = request.config.getoption(OPT_REVISION)
+    revision = request.config.getoption(OPT_PROTOCOL_VERSION) or None
     session = open_session(feeler_target, revision=revision)
     yield session
     session.close()

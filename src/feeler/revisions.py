@@ -10,8 +10,8 @@ __all__ = [
     "HANDSHAKE_REVISIONS",
     "KNOWN_REVISIONS",
     "LATEST_HANDSHAKE",
-    "LATEST_MODERN",
-    "MODERN_REVISIONS",
+    "LATEST_STATELESS",
+    "STATELESS_REVISIONS",
     "allows_batches",
     "era_of",
     "is_known",
@@ -19,10 +19,10 @@ __all__ = [
 ]
 
 HANDSHAKE_REVISIONS: tuple[str, ...] = ("2024-11-05", "2025-03-26", "2025-06-18", "2025-11-25")
-MODERN_REVISIONS: tuple[str, ...] = ("2026-07-28",)
-KNOWN_REVISIONS: tuple[str, ...] = HANDSHAKE_REVISIONS + MODERN_REVISIONS
+STATELESS_REVISIONS: tuple[str, ...] = ("2026-07-28",)
+KNOWN_REVISIONS: tuple[str, ...] = HANDSHAKE_REVISIONS + STATELESS_REVISIONS
 LATEST_HANDSHAKE = HANDSHAKE_REVISIONS[-1]
-LATEST_MODERN = MODERN_REVISIONS[-1]
+LATEST_STATELESS = STATELESS_REVISIONS[-1]
 
 
 def is_known(revision: str) -> bool:
@@ -30,8 +30,8 @@ def is_known(revision: str) -> bool:
 
 
 def era_of(revision: str) -> str:
-    """``"modern"`` for revisions without a handshake (2026-07-28 on), else ``"handshake"``."""
-    return "modern" if revision in MODERN_REVISIONS else "handshake"
+    """``"stateless"`` for revisions without a handshake (2026-07-28 on), else ``"handshake"``."""
+    return "stateless" if revision in STATELESS_REVISIONS else "handshake"
 
 
 def newest(revisions: object) -> str | None:

@@ -32,8 +32,8 @@ from feeler.revisions import (
     HANDSHAKE_REVISIONS,
     KNOWN_REVISIONS,
     LATEST_HANDSHAKE,
-    LATEST_MODERN,
-    MODERN_REVISIONS,
+    LATEST_STATELESS,
+    STATELESS_REVISIONS,
     era_of,
     newest,
 )
@@ -259,15 +259,15 @@ class Session:
     def meta(self, revision: str | None = None) -> dict[str, Any]:
         """The 2026-07-28 per-request ``_meta`` envelope (MCP 2026-07-28 basic/index)."""
         return {
-            META_PREFIX + "protocolVersion": revision or self.revision or LATEST_MODERN,
+            META_PREFIX + "protocolVersion": revision or self.revision or LATEST_STATELESS,
             META_PREFIX + "clientCapabilities": dict(self.client_capabilities),
             META_PREFIX + "clientInfo": dict(CLIENT_INFO),
         }
 
     def params(self, params: Mapping[str, Any] | None, *, revision: str | None = None) -> dict[str, Any] | None:
-        """*params* as this session sends them: with the ``_meta`` envelope in the modern era."""
+        """*params* as this session sends them: with the ``_meta`` envelope in the stateless era."""
         rev = revision or self.revision
-        if rev is None or era_of(rev) != "modern":
+        if rev is None or era_of(rev) != "stateless":
             return dict(params) if params is not None else None
         out = dict(params or {})
         meta = dict(out.get("_meta") or {})
@@ -282,7 +282,7 @@ class Session:
         if rev is None or not self.transport.takes_headers:
             return {}  # stdio and in-process have no headers: nothing to compute on their hot path
         headers = {"MCP-Protocol-Version": rev}
-        if era_of(rev) != "modern" or not isinstance(message, dict) or "method" not in message:
+        if era_of(rev) != "stateless" or not isinstance(message, dict) or "method" not in message:
             return headers
         method = message.get("method")
         if isinstance(method, str):
@@ -439,10 +439,10 @@ class Session:
         raise RequestTimeout(f"{self._what(ex)}: no answer within {timeout:g}s{hint}", target=self.target)
 
     def _cancel(self, request_id: Any) -> None:
-        """Tell the server we gave up (MCP basic/utilities/cancellation); never on modern HTTP."""
+        """Tell the server we gave up (MCP basic/utilities/cancellation); never on stateless HTTP."""
         if request_id is None or isinstance(request_id, (list, dict)):
             return
-        if self.revision is not None and era_of(self.revision) == "modern" and self.transport.kind == "http":
+        if self.revision is not None and era_of(self.revision) == "stateless" and self.transport.kind == "http":
             return
         try:
             self.notify("notifications/cancelled", {"requestId": request_id, "reason": "feeler: timed out"})
@@ -504,7 +504,7 @@ class Session:
 
     def _answer_server_request(self, ex: Exchange, msg: dict[str, Any]) -> None:
         ex.server_requests.append(msg)
-        if self.revision is not None and era_of(self.revision) == "modern":
+        if self.revision is not None and era_of(self.revision) == "stateless":
             self._violate(ex, Violation("server-request", f"a server-to-client request {msg.get('method')!r}, which 2026-07-28 forbids"))
         answer: dict[str, Any] = {"jsonrpc": "2.0", "id": msg.get("id")}
         if msg.get("method") == "ping":
@@ -520,28 +520,28 @@ class Session:
     # -- era detection and negotiation ---------------------------------------------------------------
     def _negotiate(self) -> None:
         if self.pinned is not None:
-            if era_of(self.pinned) == "modern":
+            if era_of(self.pinned) == "stateless":
                 ex = self._discover(self.pinned, self.request_timeout)
                 if not self._adopt_discover(ex, self.pinned):
                     raise HandshakeError(self._refusal("server/discover", ex, self.pinned), target=self.target)
             else:
-                self._initialize(self.pinned, allow_modern=False)
+                self._initialize(self.pinned, allow_stateless=False)
             return
-        preferred = self._probe_modern()
+        preferred = self._probe_stateless()
         if self.era is None:
-            self._initialize(preferred or LATEST_HANDSHAKE, allow_modern=True)
+            self._initialize(preferred or LATEST_HANDSHAKE, allow_stateless=True)
 
     def _discover(self, revision: str, timeout: float) -> Exchange:
         return self.request("server/discover", {}, timeout=timeout, revision=revision, raise_on_http=False)
 
-    def _probe_modern(self) -> str | None:
-        """Try the modern era (MCP 2026-07-28 basic/transports, backward compatibility).
+    def _probe_stateless(self) -> str | None:
+        """Try the stateless era (MCP 2026-07-28 basic/transports, backward compatibility).
 
-        Adopts the modern era and returns None on success; otherwise returns the handshake revision
+        Adopts the stateless era and returns None on success; otherwise returns the handshake revision
         the server named, if any, for the ``initialize`` that follows.
         """
-        revision = LATEST_MODERN
-        for _ in range(2):  # one re-probe when the server names another modern revision
+        revision = LATEST_STATELESS
+        for _ in range(2):  # one re-probe when the server names another stateless revision
             try:
                 ex = self._discover(revision, self.probe_timeout)
             except RequestTimeout:
@@ -549,9 +549,9 @@ class Session:
             if self._adopt_discover(ex, revision):
                 return None
             supported = self._supported_in(ex)
-            modern = newest([r for r in supported if r in MODERN_REVISIONS])
-            if modern and modern != revision:
-                revision = modern
+            stateless = newest([r for r in supported if r in STATELESS_REVISIONS])
+            if stateless and stateless != revision:
+                revision = stateless
                 continue
             return newest([r for r in supported if r in HANDSHAKE_REVISIONS])
         return None
@@ -573,7 +573,7 @@ class Session:
         supported = [v for v in result["supportedVersions"] if isinstance(v, str)]
         if revision not in supported:
             return False
-        self.era, self.revision = "modern", revision
+        self.era, self.revision = "stateless", revision
         self.supported_revisions = supported
         self.capabilities = dict(result.get("capabilities") or {})
         self.instructions = result.get("instructions")
@@ -583,7 +583,7 @@ class Session:
         self.transport.set_protocol_version(revision)
         return True
 
-    def _initialize(self, revision: str, *, allow_modern: bool) -> None:
+    def _initialize(self, revision: str, *, allow_stateless: bool) -> None:
         tried: set[str] = set()
         while True:
             tried.add(revision)
@@ -623,10 +623,10 @@ class Session:
             if retry and not self.pinned:
                 revision = retry
                 continue
-            modern = newest([r for r in supported if r in MODERN_REVISIONS])
-            if modern and allow_modern:
-                dex = self._discover(modern, self.request_timeout)
-                if self._adopt_discover(dex, modern):
+            stateless = newest([r for r in supported if r in STATELESS_REVISIONS])
+            if stateless and allow_stateless:
+                dex = self._discover(stateless, self.request_timeout)
+                if self._adopt_discover(dex, stateless):
                     return
             error = HandshakeError(self._refusal("initialize", ex, revision), target=self.target)
             error.http_status = ex.http_status
@@ -682,6 +682,6 @@ class Session:
     def ping(self, *, timeout: float | None = None) -> Exchange:
         """Is the server still answering? ``ping`` in the handshake era, ``server/discover`` in 2026
         (which has no ping: MCP 2026-07-28 changelog)."""
-        if self.era == "modern":
+        if self.era == "stateless":
             return self.request("server/discover", {}, timeout=timeout)
         return self.request("ping", None, timeout=timeout)

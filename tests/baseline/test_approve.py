@@ -89,7 +89,7 @@ def test_outputs_changes_and_stale_records_are_shown(tmp_path: Path) -> None:
                      confirm=lambda _: False, echo=shown.append)
     text = "\n".join(shown)
     assert result.status == "refused"
-    assert "$.n 1 -> 2" in text and "stale: recorded output for tool 'gone'" in text
+    assert "'/n' 1 -> 2" in text and "stale: recorded output for tool 'gone'" in text
 
 
 def test_nothing_to_approve(tmp_path: Path) -> None:

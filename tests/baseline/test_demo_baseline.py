@@ -56,4 +56,4 @@ def test_output_change_is_reported_with_masks(tmp_path) -> None:
     old = [{"tool": "quote_fee", "arguments": {"nights": 1}, "result": {"structuredContent": {"total_cents": 100, "issuedAt": "a"}}}]
     new = [{"tool": "quote_fee", "arguments": {"nights": 1}, "result": {"structuredContent": {"total_cents": 120, "issuedAt": "b"}}}]
     changes = compare_outputs(old, new, OutputMasks(paths=("$.structuredContent.issuedAt",)))
-    assert [c.path for c in changes] == ["$.structuredContent.total_cents"]
+    assert [c.path for c in changes] == ["/structuredContent/total_cents"]

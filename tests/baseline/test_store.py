@@ -44,13 +44,13 @@ def test_slug_keeps_no_secret() -> None:
 
 def test_write_read_round_trip_and_header(tmp_path: Path) -> None:
     store = BaselineStore(tmp_path, "feeler.demo.server:server")
-    written = store.write(catalog("a", "b"), OUTPUTS, revision="abc123", today=DAY)
+    written = store.write(catalog("a", "b"), OUTPUTS, source_ref="abc123", today=DAY)
     assert written == [store.catalog_path, store.outputs_path]
     assert store.read_catalog().to_json() == catalog("a", "b").to_json()
     assert [r["tool"] for r in store.read_outputs()] == ["a", "b"]  # sorted for stable diffs
     header = store.read_header()
-    assert header == {"format": "feeler-baseline/1", "feeler": header["feeler"], "date": "2026-01-02",
-                      "revision": "abc123"}
+    assert header == {"format": "feeler-baseline/2", "feeler": header["feeler"], "date": "2026-01-02",
+                      "sourceRef": "abc123"}
     text = store.catalog_path.read_text()
     assert text.endswith("\n") and '"x": 1' not in text  # canonical: 1.0 is written as 1 in outputs
     assert '"x": 1\n' in store.outputs_path.read_text() or '"x": 1,' in store.outputs_path.read_text()
@@ -178,3 +178,27 @@ def test_stale_baselines_and_records(tmp_path: Path) -> None:
     BaselineStore(tmp_path, "gone:server").write(catalog("x"), today=DAY)
     assert [p.name for p in stale_baselines(tmp_path, ["a:server"])] == ["gone-server"]
     assert stale_records(OUTPUTS, catalog("a")) == [OUTPUTS[0]]
+
+
+def test_a_baseline_of_the_previous_format_is_still_read(tmp_path: Path) -> None:
+    # Written by the previous release: header feeler-baseline/1 with the code revision under "revision",
+    # catalog keys "revision"/"supportedRevisions" and era "modern" (our own earlier format, from memory of
+    # what that release wrote; the keys are listed in feeler.catalog._from_old_catalog).
+    folder = tmp_path / "quay"
+    folder.mkdir()
+    old = {
+        "baseline": {"format": "feeler-baseline/1", "feeler": "0.1.0", "date": "2026-01-02", "revision": "abc123"},
+        "format": "feeler-catalog/1", "revision": "2026-07-28", "era": "modern", "supportedRevisions": ["2026-07-28"],
+        "server": {"name": "quay"}, "capabilities": {}, "tools": [{"name": "a", "inputSchema": {"type": "object"}}],
+        "prompts": [], "resources": [], "resourceTemplates": [],
+    }
+    (folder / "catalog.json").write_text(json.dumps(old), encoding="utf-8")
+    store = BaselineStore.from_folder(folder)
+    cat = store.read_catalog()
+    assert (cat.revision, cat.era, cat.supported_revisions) == ("2026-07-28", "stateless", ["2026-07-28"])
+    assert store.read_header()["sourceRef"] == "abc123"
+    # The next approve writes the current format, even though the catalog itself did not change.
+    store.write(cat, source_ref="abc123", today=DAY)
+    data = json.loads((folder / "catalog.json").read_text(encoding="utf-8"))
+    assert data["baseline"]["format"] == "feeler-baseline/2" and data["protocolVersion"] == "2026-07-28"
+    assert "revision" not in data and "supportedRevisions" not in data

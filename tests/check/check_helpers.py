@@ -47,7 +47,7 @@ def run_checks(
     """Run only *checks* against *target* with few cases (no probes unless asked, no replay files)."""
     opts = RunOptions(
         checks=list(checks),
-        go_examples=options.pop("go_examples", 3),
+        samples=options.pop("samples", 3),
         probes=options.pop("probes", False),
         replay_dir=options.pop("replay_dir", None),
         settings=settings or CheckSettings(),

@@ -19,8 +19,8 @@ from feeler.target import Target
 
 
 def test_no_leaks_clean_server() -> None:
-    report = run_checks(faulty("clean"), ["no_leaks"], go_examples=0)
-    assert report.tools["echo"].nogo_rejected_is_error > 0  # error texts were looked at
+    report = run_checks(faulty("clean"), ["no_leaks"], samples=0)
+    assert report.tools["echo"].nogo_stopped_is_error > 0  # error texts were looked at
     assert not list(report.findings)
 
 
@@ -35,7 +35,7 @@ def test_no_leaks_clean_server() -> None:
     ],
 )
 def test_no_leaks_finds_internals(kind: str, error_class: str) -> None:
-    report = run_checks(faulty("leaky", kind), ["no_leaks"], go_examples=0)
+    report = run_checks(faulty("leaky", kind), ["no_leaks"], samples=0)
     assert error_class in classes(report, "no_leaks")
     assert all(f.kind == "no-go" for f in report.findings)
 
@@ -43,7 +43,7 @@ def test_no_leaks_finds_internals(kind: str, error_class: str) -> None:
 def test_no_leaks_finds_a_secret_from_the_environment() -> None:
     # The server reads the secret from its environment; feeler knows it because the variable name looks secret.
     secret = "sk-feeler-test-0123456789"
-    report = run_checks(faulty("leaky", "secret", env={"FEELER_TEST_API_KEY": secret}), ["no_leaks"], go_examples=0)
+    report = run_checks(faulty("leaky", "secret", env={"FEELER_TEST_API_KEY": secret}), ["no_leaks"], samples=0)
     assert classes(report, "no_leaks") == {"secret"}
     assert all(secret not in f.message for f in report.findings)  # the finding itself must not repeat it
 
@@ -59,26 +59,26 @@ def test_no_leaks_finds_a_secret_from_the_environment() -> None:
     ],
 )
 def test_output_schema_finds_broken_structured_content(fault: str, error_class: str) -> None:
-    report = run_checks(faulty(fault), ["output_schema"], go_examples=2)
+    report = run_checks(faulty(fault), ["output_schema"], samples=2)
     assert [sig(f) for f in report.findings] == [("output_schema", "shout", None, None, error_class)]
 
 
 def test_output_schema_clean_servers() -> None:
-    report = run_checks(faulty("output-ok"), ["output_schema", "output_mirrored"], go_examples=2)
-    assert report.tools["shout"].go_accepted > 0
+    report = run_checks(faulty("output-ok"), ["output_schema", "output_mirrored"], samples=2)
+    assert report.tools["shout"].go_entered > 0
     assert not list(report.findings)
 
 
 def test_output_schema_clean_sdk_server() -> None:
     # The SDK reference server: four tools with outputSchemas, all conforming and mirrored.
     target = Target(kind="stdio", command=(PY, str(SERVERS / "clean_reference.py")))
-    report = run_checks(target, ["output_schema", "output_mirrored"], go_examples=1)
-    assert sum(s.go_accepted for s in report.tools.values()) > 4
+    report = run_checks(target, ["output_schema", "output_mirrored"], samples=1)
+    assert sum(s.go_entered for s in report.tools.values()) > 4
     assert not list(report.findings)
 
 
 def test_output_mirrored_is_a_warning() -> None:
-    report = run_checks(faulty("output-unmirrored"), ["output_schema", "output_mirrored"], go_examples=2)
+    report = run_checks(faulty("output-unmirrored"), ["output_schema", "output_mirrored"], samples=2)
     assert [(sig(f), f.severity) for f in report.findings] == [(("output_mirrored", "shout", None, None, "not-mirrored"), "warning")]
     assert report.exit_code() == 0  # a SHOULD: warnings do not fail the run
 
@@ -88,25 +88,25 @@ def test_output_mirrored_is_a_warning() -> None:
 
 @pytest.mark.parametrize("revision", ["2025-11-25", "2026-07-28"])
 def test_server_alive_clean_server(revision: str) -> None:
-    report = run_checks(faulty("clean"), ["server_alive"], go_examples=1, revision=revision)
+    report = run_checks(faulty("clean"), ["server_alive"], samples=1, revision=revision)
     assert report.tools["echo"].go_calls > 0 and report.restarts == 0
     assert not list(report.findings)
 
 
 # Pinned to 2025-11-25: liveness is a ping there (2026-07-28 has no ping and uses server/discover).
 def test_server_alive_finds_a_wedged_server() -> None:
-    report = run_checks(faulty("ping-dies"), ["server_alive"], go_examples=0, alive_timeout=0.3, max_restarts=1, revision="2025-11-25")
+    report = run_checks(faulty("ping-dies"), ["server_alive"], samples=0, alive_timeout=0.3, max_restarts=1, revision="2025-11-25")
     assert "RequestTimeout" in classes(report, "server_alive")
     assert report.restarts == 1
 
 
 def test_server_alive_finds_a_ping_error() -> None:
-    report = run_checks(faulty("ping-error"), ["server_alive"], go_examples=0, max_restarts=1, revision="2025-11-25")
+    report = run_checks(faulty("ping-error"), ["server_alive"], samples=0, max_restarts=1, revision="2025-11-25")
     assert classes(report, "server_alive") == {"ping-error"}
 
 
 def test_server_alive_finds_a_server_that_died() -> None:
-    report = run_checks(Target(kind="stdio", command=(PY, str(SERVERS / "crashes_on_call.py"))), ["server_alive"], go_examples=0, max_restarts=0)
+    report = run_checks(Target(kind="stdio", command=(PY, str(SERVERS / "crashes_on_call.py"))), ["server_alive"], samples=0, max_restarts=0)
     assert classes(report, "server_alive") == {"ServerExited"}
 
 
@@ -114,12 +114,12 @@ def test_server_alive_finds_a_server_that_died() -> None:
 
 
 def test_latency_over_budget() -> None:
-    report = run_checks(faulty("slow"), ["latency"], go_examples=0, settings=CheckSettings(latency_budget={"echo": 0.05}))
+    report = run_checks(faulty("slow"), ["latency"], samples=0, settings=CheckSettings(latency_budget={"echo": 0.05}))
     assert "over-budget" in classes(report, "latency")
     assert all(d >= 0.1 for d in report.tools["echo"].durations)
 
 
 def test_latency_within_budget() -> None:
-    report = run_checks(faulty("slow"), ["latency"], go_examples=0, settings=CheckSettings(latency_budget={"*": 5.0}))
+    report = run_checks(faulty("slow"), ["latency"], samples=0, settings=CheckSettings(latency_budget={"*": 5.0}))
     assert report.tools["echo"].durations  # every call's duration is recorded
     assert not list(report.findings)

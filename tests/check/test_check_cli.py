@@ -11,33 +11,36 @@ from pathlib import Path
 from check_helpers import FAULTY, PY, SERVERS, cli_json, run_cli
 
 DEMO = "feeler.demo.server:server"
-FINDING_FIELDS = {"check", "severity", "tool", "kind", "keyword", "path", "message", "replay"}
+FINDING_FIELDS = {"check", "severity", "tool", "kind", "keyword", "keywordLocation", "instanceLocation", "message", "replay"}
 
 
 def test_dry_run_calls_no_tool(tmp_path: Path) -> None:
     log = tmp_path / "calls.log"
-    args = ["check", "--dry-run", "--go-examples", "2", "--env", f"FEELER_CALL_LOG={log}", "--", PY, str(FAULTY), "record"]
+    args = ["check", "--dry-run", "--samples", "2", "--env", f"FEELER_CALL_LOG={log}", "--", PY, str(FAULTY), "record"]
     code, out, err = run_cli(args)
     assert code == 0, err
-    planned = [line.split("\t") for line in out.splitlines()]
-    assert planned and {row[0] for row in planned} == {"echo"}
-    assert {"go", "no-go"} <= {row[1] for row in planned}
+    planned = [json.loads(line) for line in out.splitlines()]  # JSON Lines (RFC 8259 objects, one a line)
+    assert planned and {row["tool"] for row in planned} == {"echo"}
+    assert {"go", "no-go"} <= {row["kind"] for row in planned}
+    assert {"schema", "sampled"} <= {row["source"] for row in planned}
+    assert all(row["instanceLocation"] is None or row["instanceLocation"] == "" or row["instanceLocation"].startswith("/")
+               for row in planned)
     assert "calls would be made (dry run)" in err
     assert not log.exists()  # the server never saw a tools/call
     # The same server without --dry-run records the calls: the log proves what it claims.
-    code, _, _ = run_cli(["check", "--no-probes", "--go-examples", "2", "--replay-dir", str(tmp_path / "r"),
+    code, _, _ = run_cli(["check", "--no-probes", "--samples", "2", "--replay-dir", str(tmp_path / "r"),
                           "--env", f"FEELER_CALL_LOG={log}", "--", PY, str(FAULTY), "record"])
     assert code == 0 and len(log.read_text().splitlines()) >= len(planned)
 
 
 def test_dry_run_on_a_server_that_dies_on_any_call() -> None:
-    code, out, err = run_cli(["check", "--dry-run", "--go-examples", "1", "--", PY, str(SERVERS / "crashes_on_call.py")])
+    code, out, err = run_cli(["check", "--dry-run", "--samples", "1", "--", PY, str(SERVERS / "crashes_on_call.py")])
     assert code == 0, err
     assert out.strip() and "restart" not in err
 
 
 def test_destructive_tool_called_only_when_allowed(tmp_path: Path) -> None:
-    base = ["--no-probes", "--go-examples", "1", "--replay-dir", str(tmp_path), "--include", "cancel_booking", DEMO]
+    base = ["--no-probes", "--samples", "1", "--replay-dir", str(tmp_path), "--include", "cancel_booking", DEMO]
     code, report = cli_json(base)
     assert code == 0 and report["tools"]["cancel_booking"]["skipped"]
     assert report["tools"]["cancel_booking"]["goCalls"] == 0
@@ -48,7 +51,7 @@ def test_destructive_tool_called_only_when_allowed(tmp_path: Path) -> None:
 
 
 def test_text_output_lists_unannotated_and_skipped_tools(tmp_path: Path) -> None:
-    code, out, _ = run_cli(["check", "--no-probes", "--go-examples", "0", "--replay-dir", str(tmp_path),
+    code, out, _ = run_cli(["check", "--no-probes", "--samples", "0", "--replay-dir", str(tmp_path),
                             "--include", "register_vessel", "--include", "cancel_booking", "--include", "list_berths", DEMO])
     assert code == 1  # register_vessel's defect
     blocks = {block.splitlines()[0].split("  ")[0]: block for block in out.split("\n\n") if block.strip()}
@@ -59,25 +62,25 @@ def test_text_output_lists_unannotated_and_skipped_tools(tmp_path: Path) -> None
 
 
 def test_json_fields_documented(tmp_path: Path) -> None:
-    code, report = cli_json(["--no-probes", "--go-examples", "0", "--replay-dir", str(tmp_path), "--include", "order_services", DEMO])
+    code, report = cli_json(["--no-probes", "--samples", "0", "--replay-dir", str(tmp_path), "--include", "order_services", DEMO])
     assert code == 1 and report["findings"]
     for finding in report["findings"]:
         assert FINDING_FIELDS <= set(finding), FINDING_FIELDS - set(finding)
         assert finding["severity"] in ("error", "warning") and isinstance(finding["message"], str)
     nogo = next(f for f in report["findings"] if f["kind"] == "no-go")
-    assert nogo["keyword"] and nogo["path"] and Path(nogo["replay"]).is_file()
+    assert nogo["keyword"] and nogo["keywordLocation"] and nogo["instanceLocation"] is not None and Path(nogo["replay"]).is_file()
     replay = json.loads(Path(nogo["replay"]).read_text(encoding="utf-8"))
-    assert {"format", "target", "revision", "request", "answer", "finding"} <= set(replay)
+    assert {"format", "target", "protocolVersion", "request", "answer", "finding"} <= set(replay)
     assert json.loads(replay["request"])["params"]["arguments"] == nogo["arguments"]
 
 
 def test_exit_code_0_on_a_clean_server(tmp_path: Path) -> None:
-    code, report = cli_json(["--go-examples", "2", "--replay-dir", str(tmp_path), "--", PY, str(FAULTY), "strict-probes"])
+    code, report = cli_json(["--samples", "2", "--replay-dir", str(tmp_path), "--", PY, str(FAULTY), "strict-probes"])
     assert code == 0 and report["findings"] == []
 
 
 def test_exit_code_2_on_usage_and_connection_errors(tmp_path: Path) -> None:
-    code, _, err = run_cli(["check", "--check", "no_such_check", DEMO])
+    code, _, err = run_cli(["check", "--only-check", "no_such_check", DEMO])
     assert code == 2 and "unknown check" in err
     code, _, err = run_cli(["check", "--replay-dir", str(tmp_path), "--", PY, str(SERVERS / "exits_at_start.py")])
     assert code == 2 and err.strip()

@@ -26,11 +26,11 @@ EXPECTED: dict[str, list[tuple[Any, ...]]] = {
     # JSON Schema 2020-12 validation 6.2.2: "maximum": 14 allows 14; the demo refuses it with isError.
     "off_by_one_at_maximum": [("bounds_honoured", "book_berth", "go", None, None, "bound:maximum")],
     # JSON Schema 2020-12 validation 6.3.3 (pattern): "nope" breaks ^BK-[0-9]{6}$ and gets a success answer.
-    "missing_validation_pattern": [("nogo_rejected", "order_services", "no-go", "pattern", "$.booking_ref", "accepted-invalid")],
+    "missing_validation_pattern": [("nogo_stops", "order_services", "no-go", "pattern", "/booking_ref", "accepted-invalid")],
     # JSON-RPC 2.0 section 5.1 (-32603 on valid arguments), an unhandled exception, and a traceback in
     # error.data (MCP 2025-11-25 server/tools, Security: sanitize errors).
     "unicode_crash_leaks_traceback": [
-        ("go_accepted", "register_vessel", "go", None, None, "internal-error"),
+        ("go_enters", "register_vessel", "go", None, None, "internal-error"),
         ("no_crash", "register_vessel", "go", None, None, "unhandled:UnicodeEncodeError"),
         ("no_leaks", "register_vessel", "go", None, None, "python-traceback"),
         ("no_leaks", "register_vessel", "go", None, None, "absolute-path"),
@@ -59,7 +59,7 @@ def _full(finding: dict[str, Any]) -> tuple[Any, ...]:
 @pytest.fixture(scope="module")
 def demo_run(tmp_path_factory: pytest.TempPathFactory) -> tuple[int, dict[str, Any], Path]:
     replays = tmp_path_factory.mktemp("replays")
-    code, report = cli_json(["--go-examples", "5", "--replay-dir", str(replays), DEMO])
+    code, report = cli_json(["--samples", "5", "--replay-dir", str(replays), DEMO])
     return code, report, replays
 
 
@@ -77,7 +77,7 @@ def test_demo_defect_found(demo_run: tuple[int, dict[str, Any], Path], defect: A
         finding = found[expected]
         assert finding["tool"] == defect.tool and finding["kind"] == defect.case_kind
         if defect.keyword and defect.case_kind == "go" and expected[0] == "bounds_honoured":
-            assert (finding["keyword"], finding["path"]) == (defect.keyword, defect.path)
+            assert (finding["keyword"], finding["instanceLocation"]) == (defect.keyword, defect.path)
         assert finding["replay"] and Path(finding["replay"]).is_file()
 
 
@@ -113,7 +113,7 @@ def test_demo_traceback_paths_reported(demo_run: tuple[int, dict[str, Any], Path
 @pytest.mark.parametrize(
     "wanted",
     [
-        ("nogo_rejected", "order_services", "no-go", "pattern", "$.booking_ref", "accepted-invalid"),
+        ("nogo_stops", "order_services", "no-go", "pattern", "/booking_ref", "accepted-invalid"),
         ("no_crash", "register_vessel", "go", None, None, "unhandled:UnicodeEncodeError"),
         ("no_leaks", "register_vessel", "go", None, None, "python-traceback"),
         ("no_leaks", "register_vessel", "go", None, None, "absolute-path"),
@@ -135,7 +135,7 @@ def test_replay_of_a_fixed_finding_is_not_reproduced(demo_run: tuple[int, dict[s
     import json
 
     _, report, _ = demo_run
-    finding = next(f for f in report["findings"] if f["check"] == "nogo_rejected")
+    finding = next(f for f in report["findings"] if f["check"] == "nogo_stops")
     data = json.loads(Path(finding["replay"]).read_text(encoding="utf-8"))
     data["target"] = {"kind": "stdio", "command": [PY, str(SERVERS / "clean_reference.py")]}
     moved = tmp_path / "moved.json"
@@ -148,7 +148,7 @@ def test_replay_of_a_fixed_finding_is_not_reproduced(demo_run: tuple[int, dict[s
 
 
 def test_clean_reference_has_no_errors(tmp_path: Path) -> None:
-    code, report = cli_json(["--go-examples", "5", "--replay-dir", str(tmp_path), "--", sys.executable, str(SERVERS / "clean_reference.py")])
+    code, report = cli_json(["--samples", "5", "--replay-dir", str(tmp_path), "--", sys.executable, str(SERVERS / "clean_reference.py")])
     assert code == 0
     assert [f for f in report["findings"] if f["severity"] == "error"] == []
     warnings = {f["signature"].split("|")[-1] for f in report["findings"]}
@@ -157,4 +157,4 @@ def test_clean_reference_has_no_errors(tmp_path: Path) -> None:
     tools = report["tools"]
     assert set(tools) == {"convert_length", "word_count", "schedule_slot", "tag_items"}
     for name, stats in tools.items():  # every tool was really exercised
-        assert stats["goAccepted"] > 0 and stats["nogoCalls"] > 0 and stats["nogoAccepted"] == 0, name
+        assert stats["goEntered"] > 0 and stats["nogoCalls"] > 0 and stats["nogoEntered"] == 0, name

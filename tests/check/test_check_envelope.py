@@ -34,7 +34,7 @@ def test_envelope_clean_server_has_no_findings() -> None:
     ],
 )
 def test_envelope_finds_broken_answers(fault: str, error_class: str) -> None:
-    report = run_checks(faulty(fault), ["envelope"], go_examples=1)
+    report = run_checks(faulty(fault), ["envelope"], samples=1)
     assert error_class in classes(report, "envelope")
     assert all(f.severity == "error" for f in report.findings)
 
@@ -72,7 +72,7 @@ def test_envelope_accepts_the_echoed_id() -> None:
 # used to swallow every broken final result (fixed in builtin._shape_errors).
 @pytest.mark.parametrize("revision", ["2025-11-25", "2026-07-28"])
 def test_result_shape_finds_a_text_block_without_text(revision: str) -> None:
-    report = run_checks(faulty("bad-content"), ["result_shape"], go_examples=1, revision=revision)
+    report = run_checks(faulty("bad-content"), ["result_shape"], samples=1, revision=revision)
     assert report.revision == revision
     findings = [f for f in report.findings if f.check == "result_shape"]
     assert findings and {f.error_class for f in findings} == {"shape"}
@@ -99,7 +99,7 @@ def test_result_shape_follows_the_negotiated_revision() -> None:
 def test_check_reports_a_wrong_id_on_tools_call_as_an_envelope_finding() -> None:
     # JSON-RPC 2.0 section 5: the answer's id must echo the request's, type included. The session stops
     # waiting at once (an id it never sent), and the runner hands the answer to the envelope check.
-    report = run_checks(faulty("string-id"), ["envelope", "no_crash"], go_examples=1)
+    report = run_checks(faulty("string-id"), ["envelope", "no_crash"], samples=1)
     found = {(f.check, f.error_class) for f in report.findings}
     assert ("envelope", "id-echo") in found
     assert not any(f.check == "no_crash" for f in report.findings)

@@ -31,8 +31,8 @@ TIME_EXPECTED = {
     # Both tools take IANA time zone names, but their inputSchema says only {"type": "string"}: every drawn
     # go case ("0", "", ...) is refused with isError ("Invalid timezone"). Real: the schema promises more
     # than the tool accepts (an enum or pattern, or a description-only contract, would be honest).
-    ("error", "accepts_some_go|convert_time|None|None|rejects-all"),
-    ("error", "accepts_some_go|get_current_time|None|None|rejects-all"),
+    ("error", "gate_opens|convert_time|None|None|rejects-all"),
+    ("error", "gate_opens|get_current_time|None|None|rejects-all"),
     # Tolerated SDK behaviour (PROTOCOL.md 11): "arguments": null refused with isError, not -32602.
     ("warning", "probe_answer|convert_time|None|None|arguments-null:is-error"),
     ("warning", "probe_answer|get_current_time|None|None|arguments-null:is-error"),
@@ -45,7 +45,7 @@ TIME_EXPECTED = {
 
 @pytest.mark.skipif(shutil.which("mcp-server-time") is None, reason="mcp-server-time is not installed (pip install mcp-server-time)")
 def test_mcp_server_time(tmp_path: Path) -> None:
-    code, report = cli_json(["--go-examples", "5", "--replay-dir", str(tmp_path), "--", shutil.which("mcp-server-time") or ""])
+    code, report = cli_json(["--samples", "5", "--replay-dir", str(tmp_path), "--", shutil.which("mcp-server-time") or ""])
     assert code in (0, 1)  # ran to the end (2 would be a connection error, 3 a feeler bug)
     assert set(report["tools"]) == {"convert_time", "get_current_time"}
     assert _pairs(report) == TIME_EXPECTED
@@ -67,11 +67,11 @@ EVERYTHING_EXPECTED = {
     *{("error", f"probe_answer|{tool}|None|None|arguments-{kind}:code") for tool in _EVERYTHING_TOOLS for kind in ("array", "string", "null")},
     # Tolerated in our setup: every URL is refused because GZIP_ALLOWED_DOMAINS=127.0.0.1 (we keep the
     # server off the network); the schema's "format": "uri" promises any URI. Environment-caused.
-    ("error", "accepts_some_go|gzip-file-as-resource|None|None|rejects-all"),
+    ("error", "gate_opens|gzip-file-as-resource|None|None|rejects-all"),
     # NOT a server defect: the tool declares execution.taskSupport "required" (MCP 2025-11-25 tasks) and
     # feeler does not send task-augmented calls, so every call gets isError ("requires task augmentation").
     # A gap in feeler (reported to the lead): such tools should be skipped or called with a task.
-    ("error", "accepts_some_go|simulate-research-query|None|None|rejects-all"),
+    ("error", "gate_opens|simulate-research-query|None|None|rejects-all"),
     # Tolerated (PROTOCOL.md 5.4, 11): an unknown tool answered with isError, not -32602.
     ("warning", "probe_answer|None|None|None|unknown-tool:is-error"),
     # Tolerated: unparsable line and batch left unanswered on stdio (as the Python SDK does).
@@ -84,7 +84,7 @@ EVERYTHING_EXPECTED = {
 @pytest.mark.skipif(shutil.which("node") is None, reason="node is not on PATH")
 def test_server_everything(tmp_path: Path) -> None:
     code, report = cli_json([
-        "--go-examples", "5", "--replay-dir", str(tmp_path), "--exclude", "trigger-long-running-operation",
+        "--samples", "5", "--replay-dir", str(tmp_path), "--exclude", "trigger-long-running-operation",
         "--env", "GZIP_ALLOWED_DOMAINS=127.0.0.1", "--", str(EVERYTHING), "stdio",
     ])
     assert code in (0, 1)

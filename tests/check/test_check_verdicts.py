@@ -1,4 +1,4 @@
-"""go_accepted, bounds_honoured, nogo_rejected, accepts_some_go and no_crash against real servers.
+"""go_enters, bounds_honoured, nogo_stops, gate_opens and no_crash against real servers.
 
 References: MCP 2025-11-25 server/tools "Error Handling" (bad arguments: a tool execution error with
 ``isError: true``; before 2025-11-25 a -32602 protocol error; PROTOCOL.md section 5.4: accept both, never a
@@ -14,13 +14,13 @@ from check_helpers import classes, faulty, run_checks, script, sig
 from feeler.check.registry import CheckSettings
 
 
-# -- go_accepted (MCP 2025-11-25 server/tools error handling; JSON-RPC 2.0 section 5.1) ------------
+# -- go_enters (MCP 2025-11-25 server/tools error handling; JSON-RPC 2.0 section 5.1) ------------
 
 
 def test_go_accepted_clean_server() -> None:
-    report = run_checks(faulty("clean"), ["go_accepted"], settings=CheckSettings(strict_go=True))
+    report = run_checks(faulty("clean"), ["go_enters"], settings=CheckSettings(strict_go=True))
     stats = report.tools["echo"]
-    assert stats.go_calls > 0 and stats.go_accepted == stats.go_calls
+    assert stats.go_calls > 0 and stats.go_entered == stats.go_calls
     assert not list(report.findings)
 
 
@@ -32,32 +32,32 @@ def test_go_accepted_clean_server() -> None:
     ],
 )
 def test_go_accepted_finds_refused_valid_arguments(fault: str, error_class: str) -> None:
-    report = run_checks(faulty(fault), ["go_accepted"], go_examples=1)
-    assert classes(report, "go_accepted") == {error_class}
+    report = run_checks(faulty(fault), ["go_enters"], samples=1)
+    assert classes(report, "go_enters") == {error_class}
     # go cases: keyword and path stay out of the signature, so one defect is one finding.
-    assert [sig(f) for f in report.findings] == [("go_accepted", "echo", None, None, error_class)]
+    assert [sig(f) for f in report.findings] == [("go_enters", "echo", None, None, error_class)]
 
 
 def test_go_accepted_counts_is_error_and_flags_it_only_when_strict() -> None:
-    lenient = run_checks(faulty("always-is-error"), ["go_accepted"], go_examples=1)
+    lenient = run_checks(faulty("always-is-error"), ["go_enters"], samples=1)
     assert lenient.tools["echo"].go_is_error == lenient.tools["echo"].go_calls > 0
     assert not list(lenient.findings)
-    strict = run_checks(faulty("always-is-error"), ["go_accepted"], go_examples=1, settings=CheckSettings(strict_go=True))
-    assert classes(strict, "go_accepted") == {"is-error"}
+    strict = run_checks(faulty("always-is-error"), ["go_enters"], samples=1, settings=CheckSettings(strict_go=True))
+    assert classes(strict, "go_enters") == {"is-error"}
 
 
-# -- accepts_some_go (common practice: a tool that refuses every valid input is broken) ------------
+# -- gate_opens (common practice: a tool that refuses every valid input is broken) ------------
 
 
 def test_accepts_some_go_finds_a_tool_that_refuses_everything() -> None:
-    report = run_checks(faulty("always-is-error"), ["accepts_some_go"], go_examples=1)
-    assert [sig(f) for f in report.findings] == [("accepts_some_go", "echo", None, None, "rejects-all")]
+    report = run_checks(faulty("always-is-error"), ["gate_opens"], samples=1)
+    assert [sig(f) for f in report.findings] == [("gate_opens", "echo", None, None, "rejects-all")]
     assert report.findings.errors()[0].kind == "tool"
 
 
 def test_accepts_some_go_clean_server() -> None:
-    report = run_checks(faulty("clean"), ["accepts_some_go"], go_examples=1)
-    assert report.tools["echo"].go_accepted > 0
+    report = run_checks(faulty("clean"), ["gate_opens"], samples=1)
+    assert report.tools["echo"].go_entered > 0
     assert not list(report.findings)
 
 
@@ -65,40 +65,40 @@ def test_accepts_some_go_clean_server() -> None:
 
 
 def test_bounds_honoured_finds_the_off_by_one() -> None:
-    report = run_checks(faulty("off-by-one"), ["bounds_honoured"], go_examples=0)
+    report = run_checks(faulty("off-by-one"), ["bounds_honoured"], samples=0)
     assert [sig(f) for f in report.findings] == [("bounds_honoured", "count", None, None, "bound:maximum")]
     finding = report.findings.errors()[0]
     assert finding.arguments == {"count": 10} and finding.keyword == "maximum"
 
 
 def test_bounds_honoured_clean_server() -> None:
-    report = run_checks(faulty("bounded"), ["bounds_honoured"], go_examples=0)
-    assert report.tools["count"].go_accepted >= 2  # both bounds (1 and 10) were called and accepted
+    report = run_checks(faulty("bounded"), ["bounds_honoured"], samples=0)
+    assert report.tools["count"].go_entered >= 2  # both bounds (1 and 10) were called and accepted
     assert not list(report.findings)
 
 
-# -- nogo_rejected (MCP 2025-11-25 server/tools; JSON-RPC 2.0 section 5.1) --------------------------
+# -- nogo_stops (MCP 2025-11-25 server/tools; JSON-RPC 2.0 section 5.1) --------------------------
 
 
 @pytest.mark.parametrize("fault", ["clean", "nogo-protocol"])
 def test_nogo_rejected_clean_servers(fault: str) -> None:
     # isError (2025-11-25 style) and -32602 (earlier style) are both clean rejections (PROTOCOL.md 5.4).
-    report = run_checks(faulty(fault), ["nogo_rejected"], go_examples=0)
+    report = run_checks(faulty(fault), ["nogo_stops"], samples=0)
     stats = report.tools["echo"]
-    assert stats.nogo_calls > 0 and stats.nogo_accepted == 0
+    assert stats.nogo_calls > 0 and stats.nogo_entered == 0
     assert not list(report.findings)
     style = stats.rejection_style(report.revision)
     assert ("-32602 protocol errors" in style) == (fault == "nogo-protocol")
 
 
 def test_nogo_rejected_names_each_unenforced_keyword() -> None:
-    report = run_checks(faulty("accepts-anything"), ["nogo_rejected"], go_examples=0)
+    report = run_checks(faulty("accepts-anything"), ["nogo_stops"], samples=0)
     # The echo schema: {"text": string, maxLength 1000}, required, additionalProperties false.
     assert {sig(f) for f in report.findings} == {
-        ("nogo_rejected", "echo", "additionalProperties", "$", "accepted-invalid"),
-        ("nogo_rejected", "echo", "maxLength", "$.text", "accepted-invalid"),
-        ("nogo_rejected", "echo", "required", "$", "accepted-invalid"),
-        ("nogo_rejected", "echo", "type", "$.text", "accepted-invalid"),
+        ("nogo_stops", "echo", "additionalProperties", "", "accepted-invalid"),
+        ("nogo_stops", "echo", "maxLength", "/text", "accepted-invalid"),
+        ("nogo_stops", "echo", "required", "", "accepted-invalid"),
+        ("nogo_stops", "echo", "type", "/text", "accepted-invalid"),
     }
     assert all("does not enforce" in f.message for f in report.findings)
 
@@ -111,8 +111,8 @@ def test_nogo_rejected_names_each_unenforced_keyword() -> None:
     ],
 )
 def test_nogo_rejected_finds_unclean_rejections(fault: str, error_class: str) -> None:
-    report = run_checks(faulty(fault), ["nogo_rejected"], go_examples=0)
-    assert classes(report, "nogo_rejected") == {error_class}
+    report = run_checks(faulty(fault), ["nogo_stops"], samples=0)
+    assert classes(report, "nogo_stops") == {error_class}
     assert all(f.kind == "no-go" and f.keyword for f in report.findings)
 
 
@@ -126,17 +126,17 @@ def test_no_crash_clean_server() -> None:
 
 
 def test_no_crash_finds_an_exception_name() -> None:
-    report = run_checks(faulty("exception-name"), ["no_crash"], go_examples=1)
+    report = run_checks(faulty("exception-name"), ["no_crash"], samples=1)
     assert classes(report, "no_crash") == {"unhandled:KeyError"}
 
 
 def test_no_crash_finds_a_server_that_exits() -> None:
-    report = run_checks(script("crashes_on_call.py"), ["no_crash"], go_examples=1, max_restarts=1)
+    report = run_checks(script("crashes_on_call.py"), ["no_crash"], samples=1, max_restarts=1)
     assert "ServerExited" in classes(report, "no_crash")
     assert report.restarts == 1  # it restarted once, then gave up on the tool
 
 
 def test_no_crash_finds_a_hang() -> None:
-    report = run_checks(script("hangs_on_call.py"), ["no_crash"], go_examples=1, timeout=0.5)
+    report = run_checks(script("hangs_on_call.py"), ["no_crash"], samples=1, timeout=0.5)
     assert classes(report, "no_crash") == {"RequestTimeout"}
     assert report.tools["echo"].timeouts == 2  # max_timeouts_per_tool: then the tool is not called again

@@ -42,14 +42,14 @@ def tool(name: str, props: dict[str, Any] | None = None, **extra: Any) -> dict[s
 
 
 def kinds(report: Any) -> dict[str, Verdict]:
-    return {c.kind: c.verdict for c in report.changes}
+    return {c.rule: c.verdict for c in report.changes}
 
 
 def test_tool_removed_added_and_rename_hint() -> None:
     old = cat(tools=[tool("get_slot", {"id": {"type": "string"}}), tool("keep")])
     new = cat(tools=[tool("fetch_slot", {"id": {"type": "string"}}), tool("keep")])
     report = diff_catalogs(old, new)
-    removed = [c for c in report.changes if c.kind == "tool-removed"]
+    removed = [c for c in report.changes if c.rule == "tool-removed"]
     assert removed[0].verdict is Verdict.BREAKING and "fetch_slot" in removed[0].hint
     assert kinds(report)["tool-added"] is Verdict.COMPATIBLE
 
@@ -85,7 +85,7 @@ def test_prompts_resources_capabilities_revisions() -> None:
         supported_revisions=["2025-11-25"],
         server={"name": "s", "version": "2"},
     )
-    got = {(c.kind, c.message): c.verdict for c in diff_catalogs(old, new).changes}
+    got = {(c.rule, c.message): c.verdict for c in diff_catalogs(old, new).changes}
     expect_breaking = ["prompt-removed", "prompt-argument-removed", "prompt-argument-added",
                        "prompt-argument-required", "resource-removed", "resource-template-removed",
                        "capability-removed", "revision-dropped"]
@@ -99,7 +99,7 @@ def test_output_schema_added_and_removed() -> None:
     with_out = cat(tools=[tool("t", outputSchema=schema)])
     without = cat(tools=[tool("t")])
     assert kinds(diff_catalogs(without, with_out))["output-schema-added"] is Verdict.COMPATIBLE
-    removed = [c for c in diff_catalogs(with_out, without).changes if c.kind == "output-schema-removed"][0]
+    removed = [c for c in diff_catalogs(with_out, without).changes if c.rule == "output-schema-removed"][0]
     assert removed.verdict is Verdict.BREAKING
     # jsonschema (reference validator): the witness is a result the old outputSchema forbids.
     assert not jsonschema.Draft202012Validator(schema).is_valid(removed.witness)
@@ -112,7 +112,7 @@ def test_description_change_is_review() -> None:
 
 
 def _change(kind: str, verdict: Verdict, **kw: Any) -> Change:
-    return Change(kind=kind, direction=Direction.CATALOG, verdict=verdict, message="m", **kw)
+    return Change(rule=kind, direction=Direction.CATALOG, verdict=verdict, message="m", **kw)
 
 
 def test_semver_bump_mapping() -> None:
@@ -142,13 +142,13 @@ def _pointer_matches(change: Change, planted: Any) -> bool:
         return False
     where = planted.where
     if where == "":
-        return change.kind in ("tool-removed", "tool-added", "prompt-removed", "prompt-added")
+        return change.rule in ("tool-removed", "tool-added", "prompt-removed", "prompt-added")
     if where.startswith("/inputSchema") or where.startswith("/outputSchema"):
         want = Direction.INPUT if where.startswith("/inputSchema") else Direction.OUTPUT
         parts = [p for p in where.split("/")[2:]]
         tail = parts[-1]
-        return change.direction is want and (change.schema_path.endswith(tail) or tail in change.message)
-    return where.split("/")[-1] in change.message or where.split("/")[1] in change.kind
+        return change.direction is want and (change.keyword_location.endswith(tail) or tail in change.message)
+    return where.split("/")[-1] in change.message or where.split("/")[1] in change.rule
 
 
 def test_demo_next_release_lists_exactly_the_planted_changes(demo_catalogs: tuple[Catalog, Catalog]) -> None:

@@ -28,7 +28,8 @@ def test_pattern_masks_hide_volatile_fragments() -> None:
     new = [rec("quote", {"content": [{"type": "text", "text": "at 2026-03-04T11:11:11Z: 40 EUR"}]})]
     assert compare_outputs(old, new, masks) == []
     assert [str(c) for c in compare_outputs(old, new)] == [
-        'quote {}: $.content[0].text "at 2026-01-02T10:00:00Z: 40 EUR" -> "at 2026-03-04T11:11:11Z: 40 EUR"']
+        """quote {}: '/content/0/text' "at 2026-01-02T10:00:00Z: 40 EUR" -> "at 2026-03-04T11:11:11Z: 40 EUR\"""",
+    ]
 
 
 def test_readable_changes() -> None:
@@ -36,9 +37,9 @@ def test_readable_changes() -> None:
     new = [rec("fee", {"structuredContent": {"total": "3", "lines": [1, 2], "extra": True}}, n=1), rec("new", {})]
     got = [str(c) for c in compare_outputs(old, new)]
     assert got == [
-        'fee {"n": 1}: $.structuredContent.extra added: true',
-        'fee {"n": 1}: $.structuredContent.lines[1] added: 2',
-        'fee {"n": 1}: $.structuredContent.total 3 -> "3"',
+        """fee {"n": 1}: '/structuredContent/extra' added: true""",
+        """fee {"n": 1}: '/structuredContent/lines/1' added: 2""",
+        """fee {"n": 1}: '/structuredContent/total' 3 -> "3\"""",
         "gone {}: case removed",
         "new {}: case added",
     ]
@@ -53,3 +54,11 @@ def test_config_keys_and_bad_masks() -> None:
         OutputMasks(patterns=("(",))
     with pytest.raises(UsageError, match="output_masks"):
         OutputMasks.from_config({"output_masks": "$.a"})
+
+
+def test_masks_may_be_typed_as_json_pointers() -> None:
+    # RFC 6901 pointers and $-paths name the same places; users may type either (our vocabulary rule).
+    value = {"structuredContent": {"issuedAt": "t1", "n": 1}, "content": [{"id": 1}, {"id": 2}]}
+    by_pointer = apply_masks(value, OutputMasks(("/structuredContent/issuedAt", "/content/*/id")))
+    by_path = apply_masks(value, OutputMasks(("$.structuredContent.issuedAt", "$.content[*].id")))
+    assert by_pointer == by_path and by_pointer["structuredContent"]["issuedAt"] == "<masked>"

@@ -146,7 +146,7 @@ def _reference_valid(schema: Any, instance: Any) -> bool:
 
 
 def _find(changes: list[Change], kind: str) -> list[Change]:
-    return [c for c in changes if c.kind == kind]
+    return [c for c in changes if c.rule == kind]
 
 
 @pytest.mark.parametrize(("case", "direction", "old", "new", "kind", "verdict"), CASES, ids=[c[0] for c in CASES])

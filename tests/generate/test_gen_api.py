@@ -19,7 +19,7 @@ def test_all_is_pinned() -> None:
 
 def test_case_is_frozen_with_the_documented_fields() -> None:
     fields = {f.name for f in dataclasses.fields(Case)}
-    assert {"kind", "keyword", "path", "schema_path", "arguments", "error", "origin"} <= fields
+    assert {"kind", "keyword", "path", "schema_path", "arguments", "error", "source"} <= fields
     case = go_cases({"type": "object"})[0] if go_cases({"type": "object"}) else Case("go", None, "$", "", {})
     try:
         case.kind = "no-go"  # type: ignore[misc]

@@ -23,13 +23,13 @@ def run(*args: str) -> object:
 
 def test_prints_json_lines() -> None:
     path = CORPUS / "ferry_timetable.json"
-    result = run(str(path), "--go", "3", "--seed", "7")
+    result = run(str(path), "--samples", "3", "--sample-seed", "7")
     assert result.exit_code == 0, result.output
     lines = [json.loads(line) for line in result.stdout.splitlines()]
-    assert {"kind", "keyword", "path", "arguments", "schema_path", "origin", "error"} <= set(lines[0])
+    assert {"kind", "keyword", "instanceLocation", "arguments", "keywordLocation", "source", "error"} <= set(lines[0])
     kinds = {line["kind"] for line in lines}
     assert kinds == {"go", "no-go"}
-    assert sum(line["origin"] == "hypothesis" for line in lines) == 3
+    assert sum(line["source"] == "sampled" for line in lines) == 3
     schema = json.loads(path.read_text(encoding="utf-8"))
     validator = jsonschema.Draft202012Validator(schema, format_checker=jsonschema.Draft202012Validator.FORMAT_CHECKER)
     for line in lines:
@@ -39,7 +39,7 @@ def test_prints_json_lines() -> None:
 
 def test_same_seed_same_output() -> None:
     path = str(CORPUS / "recipe_scaler.json")
-    assert run(path, "--go", "4", "--seed", "1").stdout == run(path, "--go", "4", "--seed", "1").stdout
+    assert run(path, "--samples", "4", "--sample-seed", "1").stdout == run(path, "--samples", "4", "--sample-seed", "1").stdout
 
 
 def test_tool_object_and_kind_filter(tmp_path: pathlib.Path) -> None:
@@ -50,7 +50,7 @@ def test_tool_object_and_kind_filter(tmp_path: pathlib.Path) -> None:
     assert result.exit_code == 0
     lines = [json.loads(line) for line in result.stdout.splitlines()]
     assert lines and all(line["kind"] == "no-go" for line in lines)
-    assert {"keyword": "minimum", "path": "$.n"}.items() <= next(line for line in lines if line["keyword"] == "minimum").items()
+    assert {"keyword": "minimum", "instanceLocation": "/n"}.items() <= next(line for line in lines if line["keyword"] == "minimum").items()
 
 
 def test_usage_errors(tmp_path: pathlib.Path) -> None:

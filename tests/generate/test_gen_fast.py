@@ -96,7 +96,7 @@ def test_same_seed_same_cases() -> None:
 
 def test_drawn_cases_and_go_cases_use_the_sampler() -> None:
     assert drawn_cases(SHELF, 10, seed=3) == fast_go_cases(SHELF, 10, seed=3)
-    drawn = [c for c in go_cases(SHELF, draws=10, seed=3) if c.note == "drawn"]
+    drawn = [c for c in go_cases(SHELF, draws=10, seed=3) if c.source == "sampled"]
     assert [c.arguments for c in drawn] == [c.arguments for c in fast_go_cases(SHELF, 10, seed=3)]
 
 

@@ -182,7 +182,7 @@ def test_corpus_cases_hold(path: pathlib.Path) -> None:
     schema = json.loads(path.read_text(encoding="utf-8"))
     go, nogo = assert_cases_hold(schema, draws=5)
     assert go and nogo
-    assert {c.origin for c in go} == {"boundary", "hypothesis"}
+    assert {c.source for c in go} == {"schema", "sampled"}
     # Keyword coverage: every constraining keyword with a mutator that was reached got a no-go case,
     # or says why not.
     for entry in coverage(schema, go + nogo):

@@ -19,7 +19,7 @@ from demo_defects import DEFECTS, DESTRUCTIVE_TOOLS  # noqa: E402
 #: Which item and check report each planted defect (issue 4: "find every planted defect ... by signature").
 EXPECTED = {
     "off_by_one_at_maximum": ("book_berth[go]", "bounds_honoured"),
-    "missing_validation_pattern": ("order_services[no-go]", "nogo_rejected"),
+    "missing_validation_pattern": ("order_services[no-go]", "nogo_stops"),
     "unicode_crash_leaks_traceback": ("register_vessel[go]", "no_leaks"),
     "structured_output_breaks_schema": ("quote_fee[go]", "output_schema"),
 }
@@ -31,7 +31,7 @@ def _project(pytester: pytest.Pytester, target: str, extra: str = "") -> None:
         pyproject=f"""
         [tool.feeler]
         targets = {{ demo = {target!r} }}
-        go_examples = 3
+        samples = 3
         replay_dir = "replays"
         {extra}
         """,

@@ -201,7 +201,7 @@ def test_stateless_server_issues_no_session_and_close_sends_no_delete(stateless_
 
 
 def test_modern_discover_with_routing_headers(stateless_server):
-    with StreamableHTTPTransport("modern", f"{stateless_server}/mcp") as transport:
+    with StreamableHTTPTransport("stateless", f"{stateless_server}/mcp") as transport:
         transport.open(10)
         # MCP 2026-07-28 basic/transports/streamable-http: POST with MCP-Protocol-Version and Mcp-Method headers,
         # and the per-request _meta envelope (MCP 2026-07-28 basic/index)
@@ -217,7 +217,7 @@ def test_modern_discover_with_routing_headers(stateless_server):
 
 
 def test_modern_header_mismatch_is_a_400_inbound_with_the_error_body(stateless_server):
-    with StreamableHTTPTransport("modern", f"{stateless_server}/mcp") as transport:
+    with StreamableHTTPTransport("stateless", f"{stateless_server}/mcp") as transport:
         transport.open(10)
         transport.send(DISCOVER, headers={"MCP-Protocol-Version": "2026-07-28", "Mcp-Method": "tools/list"},
                        timeout=10)
@@ -229,7 +229,7 @@ def test_modern_header_mismatch_is_a_400_inbound_with_the_error_body(stateless_s
 
 def test_unsupported_version_is_a_400_inbound_naming_the_supported_ones(stateless_server):
     text = DISCOVER.replace('"2026-07-28"', '"2027-01-01"')
-    with StreamableHTTPTransport("modern", f"{stateless_server}/mcp") as transport:
+    with StreamableHTTPTransport("stateless", f"{stateless_server}/mcp") as transport:
         transport.open(10)
         transport.send(text, headers={"MCP-Protocol-Version": "2027-01-01", "Mcp-Method": "server/discover"},
                        timeout=10)

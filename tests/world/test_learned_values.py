@@ -29,7 +29,7 @@ def test_listing_roots_open_the_read_tools_with_no_configuration() -> None:
         assert stats.learned_from and all(p.startswith("list_roots /structuredContent/roots/") for p in stats.learned_from)
         # Without learning every read go case is refused ("outside the allowed roots").
     off = Runner(target, RunOptions(go_examples=3, probes=False, replay_dir=None, chain_runs=0, learn=False)).run()
-    assert off.tools["read_text"].go_accepted == 0
+    assert off.tools["read_text"].go_entered == 0
 
 
 def test_values_in_structured_content_json_text_and_plain_text() -> None:

@@ -56,25 +56,25 @@ def describe(store: BaselineStore, catalog: Catalog, outputs: list[Mapping[str, 
 
 def approve(store: BaselineStore, catalog: Catalog, outputs: list[Mapping[str, Any]] | None = None, *,
             confirm: Callable[[str], bool], echo: Callable[[str], None] = print,
-            masks: OutputMasks | None = None, revision: str | None = None, samples: int = 10) -> ApproveResult:
+            masks: OutputMasks | None = None, source_ref: str | None = None, samples: int = 10) -> ApproveResult:
     """Show the differences between the baseline and *catalog* (and *outputs*), then write if confirmed.
 
     :param confirm: asked "Write ...?" and returns True to write; the CLI passes ``click.confirm`` on a
         terminal or ``lambda _: True`` for ``--yes``.
     :param echo: where the differences are shown.
-    :param revision: the code revision recorded in the header.
+    :param source_ref: the code revision recorded in the header (``sourceRef``).
     """
     text, result = describe(store, catalog, outputs, masks, samples)
     echo(text.rstrip("\n"))
     rendered = store.render(catalog, outputs, {})
-    if store.exists() and not any(store._differs(p, t) for p, t in rendered.items()) and not revision:
+    if store.exists() and not any(store._differs(p, t) for p, t in rendered.items()) and not source_ref:
         echo(f"feeler approve: {store.folder} already matches; nothing written")
         return result
     if not confirm(f"Write the new baseline to {store.folder}?"):
         result.status = "refused"
         echo("feeler approve: nothing written")
         return result
-    result.written = store.write(catalog, outputs, revision=revision)
+    result.written = store.write(catalog, outputs, source_ref=source_ref)
     result.status = "written"
     echo(f"feeler approve: wrote {', '.join(str(p) for p in result.written) or 'nothing (unchanged)'}")
     return result

@@ -10,6 +10,7 @@ import sys
 import click
 
 from feeler.cli_options import SECONDS
+from feeler.cli_options import apply_renamed, renamed_option
 from feeler.errors import FeelerError
 
 __all__ = ["approve"]
@@ -36,11 +37,13 @@ def _is_terminal() -> bool:
               help="With --record-outputs: also record these tools (glob; '*' = every tool not annotated "
                    "destructive). Never against production: the tools are called for real.")
 @click.option("--per-tool", type=click.IntRange(1, 100), default=None, help="Pinned go cases per recorded tool [3].")
-@click.option("--revision", default=None, help="Code revision to record in the header (e.g. a git commit).")
+@click.option("--source-ref", default=None, metavar="REF",
+              help="Code revision of the server to record in the header as sourceRef (e.g. a git commit).")
+@renamed_option("--revision", "--source-ref", "source_ref")
 @click.option("--yes", "-y", is_flag=True, help="Write without asking (for scripts and CI).")
 @click.option("--timeout", type=SECONDS, default=30.0, show_default=True, help="Seconds for a live capture.")
 def approve(target: str, root: str, name: str | None, outputs_file: str | None, record_outputs: bool,
-            record_tools: tuple[str, ...], per_tool: int | None, revision: str | None, yes: bool,
+            record_tools: tuple[str, ...], per_tool: int | None, source_ref: str | None, yes: bool,
             timeout: float) -> None:
     """Record TARGET's catalog as the approved baseline, after showing what changed.
 
@@ -50,6 +53,7 @@ def approve(target: str, root: str, name: str | None, outputs_file: str | None, 
     from feeler.baseline.store import BaselineStore
     from feeler.diff.cli import load_side
 
+    source_ref = source_ref or apply_renamed({"source_ref": None})["source_ref"]
     if not yes and not _is_terminal():
         raise click.UsageError("stdin is not a terminal, so feeler cannot ask before writing the baseline; "
                                "pass --yes to write it")
@@ -73,7 +77,7 @@ def approve(target: str, root: str, name: str | None, outputs_file: str | None, 
             outputs = read_json(outputs_file, what="the outputs file", expect=list,
                                 fix="give a JSON list of {tool, arguments, result} objects")
         store = BaselineStore(root, name or label)
-        result = run_approve(store, catalog, outputs, revision=revision, echo=click.echo, masks=masks,
+        result = run_approve(store, catalog, outputs, source_ref=source_ref, echo=click.echo, masks=masks,
                              confirm=(lambda _q: True) if yes else (lambda q: click.confirm(q, default=False)))
     except FeelerError as exc:
         raise click.ClickException(str(exc)) from exc

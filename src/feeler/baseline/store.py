@@ -1,7 +1,7 @@
 """The baseline store: ``baselines/<target-slug>/catalog.json`` and ``outputs.json``.
 
 Both files are canonical JSON (sorted keys, two-space indent, trailing newline) with a ``baseline`` header:
-format version, feeler version, date and the code revision given by the user — never an environment
+format version, feeler version, date and the code revision given by the user (``sourceRef``) — never an environment
 variable, a header or a token. ``catalog.json`` is a catalog file in its own right (``feeler diff`` reads
 it directly); the header is one extra key.
 
@@ -44,7 +44,10 @@ __all__ = [
 ]
 
 #: Stamped into every baseline file's header; bumped when the layout changes incompatibly.
-BASELINE_FORMAT = "feeler-baseline/1"
+BASELINE_FORMAT = "feeler-baseline/2"
+#: Older header formats still read: ``feeler-baseline/1`` (code revision under ``revision``, catalog
+#: keys ``revision``/``supportedRevisions``). The next approve writes the current format.
+OLD_BASELINE_FORMATS = ("feeler-baseline/1",)
 CATALOG_FILE = "catalog.json"
 OUTPUTS_FILE = "outputs.json"
 LOCK_FILE = ".feeler-write.lock"
@@ -147,9 +150,12 @@ def _check_header(path: Path, data: Any) -> dict[str, Any]:
     if not isinstance(data, dict):
         raise BaselineError(f"{path}:1:1: expected a JSON object with a 'baseline' header; {FIX}")
     header = data.get("baseline")
-    if not isinstance(header, dict) or header.get("format") != BASELINE_FORMAT:
+    if not isinstance(header, dict) or header.get("format") not in (BASELINE_FORMAT, *OLD_BASELINE_FORMATS):
         got = header.get("format") if isinstance(header, dict) else header
         raise BaselineError(f"{path}: baseline header format={got!r} is not {BASELINE_FORMAT!r}; {FIX}")
+    if header.get("format") in OLD_BASELINE_FORMATS and "revision" in header:
+        header = {k: v for k, v in header.items() if k != "revision"}
+        header["sourceRef"] = data["baseline"]["revision"]
     return header
 
 
@@ -233,11 +239,12 @@ class BaselineStore:
         return files
 
     def write(self, catalog: Catalog, outputs: list[Mapping[str, Any]] | None = None, *,
-              revision: str | None = None, today: _dt.date | None = None) -> list[Path]:
+              source_ref: str | None = None, today: _dt.date | None = None) -> list[Path]:
         """Write the baseline atomically under the writer lock; return the files actually changed.
 
         :param outputs: recorded output records, or None to leave ``outputs.json`` as it is.
-        :param revision: the code revision being approved (e.g. a git commit), stored in the header.
+        :param source_ref: the code revision being approved (e.g. a git commit), stored in the header
+            as ``sourceRef``.
         :param today: the date for the header (tests pass a fixed one).
         :raises BaselineError: in a pytest-xdist worker, or when the lock cannot be taken.
         """
@@ -248,8 +255,8 @@ class BaselineStore:
 
         header = {"format": BASELINE_FORMAT, "feeler": __version__,
                   "date": (today or _dt.date.today()).isoformat()}
-        if revision:
-            header["revision"] = revision
+        if source_ref:
+            header["sourceRef"] = source_ref
         with writer_lock(self.folder):
             files = {p: t for p, t in self.render(catalog, outputs, header).items() if self._differs(p, t)}
             temps: dict[Path, Path] = {}
@@ -288,7 +295,9 @@ class BaselineStore:
             old_header = old.pop("baseline", None)
             new_header = new.pop("baseline", None)
             if isinstance(old_header, dict) and isinstance(new_header, dict):
-                if old_header.get("revision") != new_header.get("revision"):
+                if new_header.get("format") and old_header.get("format") != new_header.get("format"):
+                    return True
+                if old_header.get("sourceRef", old_header.get("revision")) != new_header.get("sourceRef"):
                     return True
         return bool(old != new)
 

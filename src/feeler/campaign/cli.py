@@ -68,7 +68,7 @@ def _terminate(_signum: int, _frame: Any) -> None:
               help="hypothesis example database: failing examples are retried first next time [.feeler/examples].")
 @click.option("--folder", default=None, metavar="DIR", help="Campaign folder: state and call log [.feeler/campaigns/TARGET[-shard-i-of-n]].")
 @click.option("--fresh", is_flag=True, help="Start afresh even if an interrupted campaign can be continued.")
-@click.option("--seed", type=int, default=0, show_default=True, help="Seed of the first round (round r uses seed + r).")
+@click.option("--sample-seed", "seed", type=int, default=0, show_default=True, help="Sample seed of the first round (round r uses seed + r).")
 @click.option("--include", multiple=True, metavar="PATTERN", help="Only tools matching this glob (repeatable).")
 @click.option("--exclude", multiple=True, metavar="PATTERN", help="Skip tools matching this glob (repeatable).")
 @click.option("--allow-destructive", is_flag=True, help="Also call tools annotated destructiveHint: true.")
@@ -95,7 +95,7 @@ def campaign(**kwargs: Any) -> int:
     slug = opts.target.slug() + (f"-shard-{shard[0]}-of-{shard[1]}" if shard else "")
     folder = kwargs["folder"] or os.path.join(".feeler", "campaigns", slug)
     options = RunOptions(
-        seed=kwargs["seed"], go_examples=kwargs["samples"], include=list(kwargs["include"]),
+        sample_seed=kwargs["seed"], samples=kwargs["samples"], include=list(kwargs["include"]),
         exclude=list(kwargs["exclude"]), allow_destructive=kwargs["allow_destructive"], replay_dir=kwargs["replay_dir"],
     )  # fmt: skip
     camp_options = CampaignOptions(

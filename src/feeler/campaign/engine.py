@@ -107,7 +107,7 @@ def _cases(campaign: Campaign, tool: Any, round_no: int) -> None:
     """Round 0: every case kind, as ``feeler check``; later rounds: more drawn go cases, a new seed."""
     runner = campaign.runner
     if round_no == 0:
-        runner.options.go_examples = campaign.options.samples
+        runner.options.samples = campaign.options.samples
         runner.run_tool(tool)
         return
     stats = runner.stats(tool)
@@ -115,8 +115,8 @@ def _cases(campaign: Campaign, tool: Any, round_no: int) -> None:
         return
     from feeler.generate import arguments
 
-    runner.options.go_examples = campaign.samples_for(round_no)
-    runner.options.seed = campaign.options.seed + round_no
+    runner.options.samples = campaign.samples_for(round_no)
+    runner.options.sample_seed = campaign.options.seed + round_no
     runner._drawn_go(tool, stats, arguments(tool.input_schema))
 
 

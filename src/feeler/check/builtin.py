@@ -45,9 +45,18 @@ def _error_texts(ctx: CallContext) -> list[str]:
     return _texts(ex.result) if ex.is_error_result else []
 
 
+def _pointer(path: str | None) -> str:
+    from feeler._json import to_pointer
+
+    try:
+        return to_pointer(path) or ""
+    except ValueError:
+        return str(path)
+
+
 def _where(ctx: CallContext) -> str:
     if ctx.keyword:
-        return f" (keyword {ctx.keyword!r} at {ctx.path or '$'})"
+        return f" (keyword {ctx.keyword!r} at {_pointer(ctx.path)!r})"
     return ""
 
 
@@ -128,9 +137,9 @@ def result_shape(ctx: CallContext) -> Iterator[Problem]:
 # -- go and no-go verdicts --------------------------------------------------------------------------
 
 
-@register("go_accepted", applies_to=("go",), reference="MCP 2025-11-25 server/tools (error handling)")
-def go_accepted(ctx: CallContext) -> Iterator[Problem]:
-    """Arguments the input schema accepts are accepted: -32602 on a go case means schema and code disagree."""
+@register("go_enters", applies_to=("go",), reference="MCP 2025-11-25 server/tools (error handling)")
+def go_enters(ctx: CallContext) -> Iterator[Problem]:
+    """A go case enters: arguments the input schema accepts are accepted: -32602 on a go case means schema and code disagree."""
     ex = ctx.exchange
     if ex is None:
         return
@@ -164,9 +173,9 @@ def bounds_honoured(ctx: CallContext) -> Iterator[Problem]:
         )
 
 
-@register("nogo_rejected", applies_to=("no-go",), reference="MCP 2025-11-25 server/tools (error handling); JSON-RPC 2.0 section 5.1")
-def nogo_rejected(ctx: CallContext) -> Iterator[Problem]:
-    """Arguments the input schema forbids are rejected cleanly: -32602 or ``isError: true``, never success or -32603."""
+@register("nogo_stops", applies_to=("no-go",), reference="MCP 2025-11-25 server/tools (error handling); JSON-RPC 2.0 section 5.1")
+def nogo_stops(ctx: CallContext) -> Iterator[Problem]:
+    """A no-go case is stopped: arguments the input schema forbids are rejected cleanly: -32602 or ``isError: true``, never success or -32603."""
     ex = ctx.exchange
     if ex is None:
         return
@@ -311,14 +320,14 @@ def latency(ctx: CallContext) -> Iterator[Problem]:
 # -- tool level ----------------------------------------------------------------------------------------
 
 
-@register("accepts_some_go", applies_to=("tool",), reference="common practice: a tool that refuses every valid input is broken or mis-described")
-def accepts_some_go(ctx: CallContext) -> Iterator[Problem]:
-    """A tool accepts at least one of its go cases."""
+@register("gate_opens", applies_to=("tool",), reference="common practice: a tool that refuses every valid input is broken or mis-described")
+def gate_opens(ctx: CallContext) -> Iterator[Problem]:
+    """The gate opens: at least one of a tool's go cases enters."""
     stats = ctx.stats
     if stats is None or stats.go_calls == 0 or getattr(getattr(stats, "world", None), "hint", None):
         return  # no go case, or one hint (values_needed) says what to give instead
-    if stats.go_accepted == 0:
-        yield Problem(f"rejected all {stats.go_calls} go cases (the schema promises more than the tool accepts)", error_class="rejects-all")
+    if stats.go_entered == 0:
+        yield Problem(f"stopped all {stats.go_calls} go cases (the schema promises more than the tool accepts)", error_class="rejects-all")
 
 
 @register("values_needed", applies_to=("tool",), reference="common practice: a tool that refuses every call with one message needs a value from its world")

@@ -9,7 +9,7 @@ from typing import Any
 
 import click
 
-from feeler.cli_options import SECONDS, ConnectOptions, target_options
+from feeler.cli_options import SECONDS, ConnectOptions, apply_renamed, renamed_option, target_options
 from feeler.errors import UsageError
 from feeler.report.cli import report_options, write_from_options
 
@@ -45,20 +45,29 @@ def _list_checks(ctx: click.Context, _param: click.Parameter, value: bool) -> No
 @click.option("--list-checks", is_flag=True, expose_value=False, is_eager=True, callback=_list_checks,
               help="List the checks (name, severity, what they look at, reference) and exit.")
 @target_options
-@click.option("--seed", type=int, default=None, help="Seed for generated cases (default 0: the same cases every run).")
-@click.option("--go-examples", type=click.IntRange(min=0), default=None, help="Drawn go cases per tool, besides the boundary cases [20].")
+@click.option("--depth", type=click.Choice(["quick", "standard", "deep"]), default=None,
+              help="How many cases: quick, standard (the default, locally and in CI) or deep.")
+@click.option("--samples", type=click.IntRange(min=0), default=None,
+              help="Sampled go cases per tool, besides the boundary cases (overrides --depth; standard: 20).")
+@click.option("--sample-seed", type=int, default=None, help="Seed of the sampled go cases (default 0: the same cases every run).")
+@renamed_option("--go-examples", "--samples", "samples", type=click.IntRange(min=0))
+@renamed_option("--seed", "--sample-seed", "sample_seed", type=int)
 @click.option("--value", "values", multiple=True, metavar="[TOOL:]PROPERTY=JSON",
               help="A value from the server's world for a property or $.path (repeatable; a JSON list: one of these).")
 @click.option("--include", multiple=True, metavar="PATTERN", help="Only tools matching this glob (repeatable).")
 @click.option("--exclude", multiple=True, metavar="PATTERN", help="Skip tools matching this glob (repeatable).")
 @click.option("--allow-destructive", is_flag=True, help="Also call tools annotated destructiveHint: true.")
-@click.option("--strict", "strict_go", is_flag=True, help="isError on a go case is a finding, not just counted.")
+@click.option("--strict-go", is_flag=True, help="isError on a go case is a finding, not just counted.")
+@renamed_option("--strict", "--strict-go", "strict_go", is_flag=True)
 @click.option("--budget", multiple=True, metavar="[TOOL=]SECONDS", help="Latency budget per call (repeatable).")
-@click.option("--check", "checks", multiple=True, metavar="NAME", help="Run only these checks (repeatable).")
+@click.option("--only-check", "only_checks", multiple=True, metavar="NAME", help="Run only these checks (repeatable).")
+@renamed_option("--check", "--only-check", "only_checks", multiple=True)
 @click.option("--skip-check", "skip_checks", multiple=True, metavar="NAME", help="Do not run this check (repeatable).")
 @click.option("--no-probes", is_flag=True, help="Do not send protocol-level no-go requests.")
-@click.option("--dry-run", is_flag=True, help="List the calls that would be made; call no tool.")
-@click.option("--every-revision", is_flag=True, help="Check under each protocol revision the server supports.")
+@click.option("--dry-run", is_flag=True, help="Print the calls that would be made as JSON Lines; call no tool.")
+@click.option("--every-protocol-version", "every_revision", is_flag=True,
+              help="Check under each protocol version the server supports, with a table.")
+@renamed_option("--every-revision", "--every-protocol-version", "every_revision", is_flag=True)
 @click.option("--format", "fmt", type=click.Choice(["text", "json"]), default="text", show_default=True)
 @click.option("--replay-dir", default=None, help="Where replay files go [.feeler/replays].")
 @report_options
@@ -75,7 +84,10 @@ def check(**kwargs: Any) -> int:
     from feeler.check.runner import RunOptions, Runner
     from feeler.config import load_config
 
+    from feeler.depth import samples_for
+
     config = load_config()
+    apply_renamed(kwargs)
     fmt = kwargs.pop("fmt")
     verbose = kwargs.pop("verbose")
     every = kwargs.pop("every_revision")
@@ -90,20 +102,23 @@ def check(**kwargs: Any) -> int:
         opts.target = conn_target
     else:
         opts = ConnectOptions(kwargs)
-    if opts.session["revision"] is None and config.get("revision"):
-        opts.session["revision"] = config.get("revision")
+    if opts.session["revision"] is None and config.get("protocol_version"):
+        opts.session["revision"] = config.get("protocol_version")
     from feeler.world.known import known_pool
 
-    seed = kwargs["seed"] if kwargs["seed"] is not None else config.get("seed", 0)
+    samples = kwargs["samples"] if kwargs["samples"] is not None else config.get("samples")
+    if samples is None:
+        samples = samples_for(kwargs["depth"] or config.get("depth"))
+    seed = kwargs["sample_seed"] if kwargs["sample_seed"] is not None else config.get("sample_seed", 0)
     pool = known_pool(kwargs["values"], config.get("values"), config.get("values_hook"), seed=seed)
     options = RunOptions(
         values=pool,
-        seed=kwargs["seed"] if kwargs["seed"] is not None else config.get("seed", 0),
-        go_examples=kwargs["go_examples"] if kwargs["go_examples"] is not None else config.get("go_examples", 20),
+        sample_seed=seed,
+        samples=samples,
         include=list(kwargs["include"]) or list(config.get("include", [])),
         exclude=list(kwargs["exclude"]) or list(config.get("exclude", [])),
         allow_destructive=kwargs["allow_destructive"] or bool(config.get("allow_destructive", False)),
-        checks=list(kwargs["checks"]) or config.get("checks"),
+        checks=list(kwargs["only_checks"]) or config.get("only_checks"),
         skip_checks=list(kwargs["skip_checks"]) or list(config.get("skip_checks", [])),
         settings=CheckSettings(
             strict_go=kwargs["strict_go"] or bool(config.get("strict_go", False)),
@@ -131,8 +146,10 @@ def check(**kwargs: Any) -> int:
     else:
         report = runner.run()
     if options.dry_run:
+        import json
+
         for call in report.planned:
-            click.echo(f"{call.tool}\t{call.kind}\t{call.keyword or '-'}\t{call.path or '-'}\t{call.arguments!r}")
+            click.echo(json.dumps(call.to_json(), ensure_ascii=False, sort_keys=True))
         click.echo(f"feeler: {len(report.planned)} calls would be made (dry run)", err=True)
         return 0
     click.echo(report_json(report) if fmt == "json" else report_text(report, verbose=verbose), nl=False)

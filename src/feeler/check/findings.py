@@ -11,17 +11,22 @@ from typing import Any
 __all__ = ["Finding", "FindingSet"]
 
 #: Checks whose no-go findings are about the broken keyword itself.
-_RULE_CHECKS = frozenset({"nogo_rejected", "no_crash"})
+_RULE_CHECKS = frozenset({"nogo_stops", "no_crash"})
 
 
 @dataclass
 class Finding:
     """One defect feeler found.
 
-    Fields (also the keys of ``--format json``): ``check``, ``severity`` (error / warning), ``tool``,
-    ``kind`` (go / no-go / probe / alive / tool), ``keyword`` and ``path`` (for schema cases),
-    ``message``, ``arguments`` (the smallest arguments that show it), ``revision``, ``replay`` (file),
-    ``count`` (how many calls showed the same signature).
+    The keys of ``--format json`` (camelCase, see :meth:`to_json`): ``check``, ``severity`` (error /
+    warning), ``tool``, ``kind`` (catalog / go / no-go / probe / alive / tool / chain), ``keyword``,
+    ``keywordLocation`` (a JSON Pointer into the tool's input schema, ending in the keyword),
+    ``instanceLocation`` (a JSON Pointer into the arguments), ``source`` (where the case's values came
+    from), ``boundary`` (a go case on a bound), ``message``, ``errorClass``, ``arguments`` (the smallest
+    arguments that show it), ``protocolVersion``, ``replay`` (file), ``count`` (how many calls showed the
+    same signature), ``signature``.
+
+    *path* is the instance location as the case wrote it (``$.a[0]``); *keyword_location* a JSON Pointer.
     """
 
     check: str
@@ -32,6 +37,9 @@ class Finding:
     error_class: str = ""
     keyword: str | None = None
     path: str | None = None
+    keyword_location: str | None = None
+    source: str | None = None
+    boundary: bool = False
     arguments: Any = None
     revision: str | None = None
     request_text: str | None = None
@@ -49,12 +57,22 @@ class Finding:
         exercised, a keyword broken while the envelope was wrong), so one defect is one finding.
         """
         names_rule = self.kind == "no-go" and self.check in _RULE_CHECKS
-        keyword, path = (self.keyword, self.path) if names_rule else (None, None)
+        keyword, path = (self.keyword, self.instance_location) if names_rule else (None, None)
         return "|".join(str(x) for x in (self.check, self.tool, keyword, path, self.error_class))
 
     @property
     def short_id(self) -> str:
         return hashlib.sha1(self.signature.encode("utf-8")).hexdigest()[:10]
+
+    @property
+    def instance_location(self) -> str | None:
+        """Where in the arguments, a JSON Pointer (``""`` for the root); ``None`` without a case."""
+        from feeler._json import to_pointer
+
+        try:
+            return to_pointer(self.path)
+        except ValueError:
+            return self.path
 
     def to_json(self) -> dict[str, Any]:
         out = {
@@ -63,10 +81,14 @@ class Finding:
             "tool": self.tool,
             "kind": self.kind,
             "keyword": self.keyword,
-            "path": self.path,
+            "keywordLocation": self.keyword_location,
+            "instanceLocation": self.instance_location,
+            "source": self.source,
+            "boundary": self.boundary,
             "message": self.message,
+            "errorClass": self.error_class,
             "arguments": self.arguments,
-            "revision": self.revision,
+            "protocolVersion": self.revision,
             "replay": self.replay,
             "count": self.count,
             "signature": self.signature,

@@ -32,7 +32,7 @@ def run_probes(runner: Runner, tool: Tool, stats: ToolStats) -> None:
     from feeler.generate import protocol_probes
 
     session = runner.open()
-    meta = session.meta() if session.era == "modern" else None
+    meta = session.meta() if session.era == "stateless" else None
     for probe in protocol_probes(runner.revision, tool.name, meta):
         per_tool = probe.name in TOOL_PROBES
         if not per_tool and probe.name in runner.server_probes_sent:
@@ -107,7 +107,7 @@ def probe_answer(ctx: CallContext) -> Iterator[Problem]:
     if not isinstance(response, dict):
         yield Problem(f"probe {name!r}: the answer is not a JSON object", error_class=f"{name}:not-object")
         return
-    codes = tuple(probe.codes) + (_HTTP_HEADER_CODES if ex.http_status is not None and ctx.era == "modern" else ())
+    codes = tuple(probe.codes) + (_HTTP_HEADER_CODES if ex.http_status is not None and ctx.era == "stateless" else ())
     error = response.get("error")
     if isinstance(error, dict):
         code = error.get("code")

@@ -133,10 +133,26 @@ def register(
     return decorate
 
 
+#: Former check names, accepted for one release with a notice.
+RENAMED_CHECKS: dict[str, str] = {"go_accepted": "go_enters", "nogo_rejected": "nogo_stops", "accepts_some_go": "gate_opens"}
+
+
+def current_name(name: str) -> str:
+    """*name*, or its new name if it is a former check name (with a one-line notice)."""
+    if name in RENAMED_CHECKS and name not in CHECKS:
+        from feeler._deprecated import notice
+
+        notice(f"the check name {name!r}", repr(RENAMED_CHECKS[name]))
+        return RENAMED_CHECKS[name]
+    return name
+
+
 def select_checks(names: list[str] | None = None, skip: list[str] | None = None) -> list[Check]:
     """The checks to run: all by default, or *names*; minus *skip*. Unknown names are a usage error."""
     from difflib import get_close_matches
 
+    names = [current_name(n) for n in names] if names else names
+    skip = [current_name(n) for n in skip] if skip else skip
     for name in [*(names or []), *(skip or [])]:
         if name not in CHECKS:
             close = get_close_matches(name, list(CHECKS), n=1)

@@ -1,8 +1,10 @@
 """Replay files: the exact request that showed a finding, and where to send it again.
 
-A replay file is JSON: ``format``, ``target`` (how to reach the server: never a secret: env and header
-*names* only), ``revision``, ``request`` (the exact text sent), ``answer`` (what came back then) and
-``finding``. ``feeler replay FILE`` re-sends the request and runs the finding's check on the new answer.
+A replay file is JSON (format ``feeler-replay/2``): ``format``, ``target`` (how to reach the server: never
+a secret: env and header *names* only), ``protocolVersion``, ``request`` (the exact text sent), ``answer``
+(what came back then) and ``finding`` (its ``--format json`` form). It lives at
+``<replay dir>/<target>/<tool or _server>/<id>.replay.json``. ``feeler replay FILE`` re-sends the request
+and runs the finding's check on the new answer. Files of format ``feeler-replay/1`` are still read.
 """
 
 from __future__ import annotations
@@ -18,40 +20,66 @@ from feeler._read import read_json
 from feeler.catalog import Tool
 from feeler.check.findings import Finding
 from feeler.errors import TargetError, UsageError
-from feeler.target import Target
+from feeler.target import Target, target_slug
 
 __all__ = ["REPLAY_FORMAT", "ReplayOutcome", "load_replay", "replay", "write_replay"]
 
-REPLAY_FORMAT = "feeler-replay/1"
+REPLAY_FORMAT = "feeler-replay/2"
+#: Older formats still read (``revision`` instead of ``protocolVersion``; snake_case finding keys).
+OLD_REPLAY_FORMATS = ("feeler-replay/1",)
+#: The folder of findings that concern no tool (server-wide probes, the catalog).
+SERVER_FOLDER = "_server"
 
 
 def write_replay(folder: str, target: Target, finding: Finding) -> str:
-    """Write the replay file of *finding* under *folder*/<target>/ and return its path."""
+    """Write the replay file of *finding* under *folder*/<target>/<tool or _server>/ and return its path."""
     data = {
         "format": REPLAY_FORMAT,
         "recorded": datetime.now(timezone.utc).strftime("%Y-%m-%dT%H:%M:%SZ"),
         "target": target.to_json(),
-        "revision": finding.revision,
+        "protocolVersion": finding.revision,
         "request": finding.request_text,
         "answer": finding.answer_text,
         "finding": {k: v for k, v in finding.to_json().items() if k != "replay"},
     }
     if finding.extra.get("sequence"):
         data["sequence"] = finding.extra["sequence"]  # a chain: every call, linked by earlier answers
-    path = os.path.join(folder, target.slug(), f"{finding.check}-{finding.short_id}.json")
+    tool_folder = target_slug(finding.tool) if finding.tool else SERVER_FOLDER
+    path = os.path.join(folder, target.slug(), tool_folder, f"{finding.short_id}.replay.json")
     write_text_atomic(path, json.dumps(data, indent=2, ensure_ascii=False, sort_keys=True) + "\n")
     return path
 
 
 def load_replay(path: str) -> dict[str, Any]:
     data = read_json(path, what="the replay file", fix="give a replay file written by `feeler check`")
-    if data.get("format") != REPLAY_FORMAT:
+    if data.get("format") not in (REPLAY_FORMAT, *OLD_REPLAY_FORMATS):
         raise UsageError(f"{path}: not a feeler replay file (expected format {REPLAY_FORMAT!r})")
+    if data["format"] in OLD_REPLAY_FORMATS:
+        data = _from_old_replay(data)
     for key, kind in (("target", dict), ("request", str), ("finding", dict)):
         if not isinstance(data.get(key), kind):
             raise UsageError(f"{path}: the replay file has no {key!r} {'object' if kind is dict else 'string'}; "
                              "write it again with `feeler check`")
     return data
+
+
+def _from_old_replay(data: dict[str, Any]) -> dict[str, Any]:
+    """A ``feeler-replay/1`` file with today's key names."""
+    out = dict(data)
+    out["protocolVersion"] = out.pop("revision", None)
+    finding = dict(out.get("finding") or {})
+    if "revision" in finding:
+        finding["protocolVersion"] = finding.pop("revision")
+    if "path" in finding:
+        from feeler._json import to_pointer
+
+        path = finding.pop("path")
+        try:
+            finding["instanceLocation"] = to_pointer(path)
+        except ValueError:
+            finding["instanceLocation"] = path
+    out["finding"] = finding
+    return out
 
 
 @dataclass
@@ -66,7 +94,13 @@ class _Case:
     def __init__(self, finding: dict[str, Any]) -> None:
         self.kind = finding.get("kind")
         self.keyword = finding.get("keyword")
-        self.path = finding.get("path")
+        from feeler._json import json_path, path_parts
+
+        where = finding.get("instanceLocation")
+        self.path = json_path(path_parts(where)) if isinstance(where, str) else None
+        self.schema_path = finding.get("keywordLocation") or ""
+        self.source = finding.get("source")
+        self.is_boundary = bool(finding.get("boundary"))
         self.arguments = finding.get("arguments")
 
 
@@ -79,7 +113,7 @@ def replay(data: dict[str, Any], *, timeout: float = 30.0, target: Target | None
     tgt = target or Target.from_json(data["target"])
     finding = data["finding"]
     check = CHECKS.get(finding.get("check", ""))
-    session = open_session(tgt, revision=data.get("revision"), timeout=timeout)
+    session = open_session(tgt, revision=data.get("protocolVersion"), timeout=timeout)
     try:
         catalog = capture(session)
         if data.get("sequence"):
@@ -105,11 +139,13 @@ def replay(data: dict[str, Any], *, timeout: float = 30.0, target: Target | None
             from feeler.generate import protocol_probes
 
             probe_name = str(finding.get("signature", "")).split("|")[-1].split(":")[0]
-            meta = session.meta() if session.era == "modern" else None
+            meta = session.meta() if session.era == "stateless" else None
             probes = {p.name: p for p in protocol_probes(str(session.revision), finding.get("tool") or "tool", meta)}
             case = probes.get(probe_name, case)
         ctx_kind = "alive" if finding.get("check") == "server_alive" else kind
         ctx = CallContext(ctx_kind, tool, str(session.revision), str(session.era), CheckSettings(secrets=secret_values(dict(tgt.env))), case=case)
+        if finding.get("check") == "bounds_honoured":
+            ctx.base = "entered"  # the base (just inside the bound) entered when the finding was made
         answer = None
         try:
             expect = getattr(case, "expects_answer", True)

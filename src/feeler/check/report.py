@@ -7,7 +7,7 @@ from typing import Any
 
 from feeler.check.runner import RunReport
 
-__all__ = ["report_json", "report_text"]
+__all__ = ["report_json", "report_text", "totals_line"]
 
 
 def _median(values: list[float]) -> float:
@@ -21,7 +21,7 @@ def report_text(report: RunReport, *, verbose: bool = False) -> str:
     lines: list[str] = []
     if cat is not None:
         server = cat.server.get("name", "?")
-        lines.append(f"feeler check: {report.target.name} ({server}, revision {cat.revision}, {cat.era} era)")
+        lines.append(f"feeler check: {report.target.name} ({server}, protocol version {cat.revision}, {cat.era} era)")
     by_tool: dict[str | None, list[Any]] = {}
     for finding in report.findings:
         by_tool.setdefault(finding.tool, []).append(finding)
@@ -35,23 +35,23 @@ def report_text(report: RunReport, *, verbose: bool = False) -> str:
             if stats.schema_problem:
                 lines.append(f"  no cases: {stats.schema_problem}")
             lines.append(
-                f"  go: {stats.go_accepted}/{stats.go_calls} accepted"
+                f"  go: {stats.go_entered}/{stats.go_calls} entered"
                 + (f", {stats.go_is_error} answered isError" if stats.go_is_error else "")
-                + f"; no-go: {stats.nogo_rejected_protocol + stats.nogo_rejected_is_error}/{stats.nogo_calls} rejected"
+                + f"; no-go: {stats.nogo_stopped_protocol + stats.nogo_stopped_is_error}/{stats.nogo_calls} stopped"
                 + f"; probes: {stats.probes}"
                 + (f"; median {_median(stats.durations) * 1000:.1f} ms" if stats.durations else "")
             )
             if stats.go_calls or stats.nogo_calls:
                 lines.append(f"  {stats.world.summary_text()}")
             if stats.nogo_calls:
-                lines.append(f"  rejects with {stats.rejection_style(report.revision)}")
+                lines.append(f"  stops no-go cases with {stats.rejection_style(report.revision)}")
             if stats.coverage:
                 cov = stats.coverage_summary()
-                gaps = ", ".join(f"{g['keyword']}@{g['schemaPath']}" for g in cov["gaps"][:4])
+                gaps = ", ".join(f"{g['keywordLocation'] or '/'}" for g in cov["gaps"][:4])
                 more = f" (+{len(cov['gaps']) - 4} more)" if len(cov["gaps"]) > 4 else ""
                 lines.append(
-                    f"  keywords: {cov['both']}/{cov['keywords']} with a go and a no-go case"
-                    + (f"; not both: {gaps}{more}" if gaps and verbose else "")
+                    f"  keywords: {cov['gaugedBothEnds']}/{cov['keywords']} gauged at both ends"
+                    + (f"; not at both ends: {gaps}{more}" if gaps and verbose else "")
                 )
         for finding in by_tool.pop(name, []):
             lines.extend(_finding_lines(finding, verbose))
@@ -60,18 +60,29 @@ def report_text(report: RunReport, *, verbose: bool = False) -> str:
         lines.append("\nserver")
         for finding in rest:
             lines.extend(_finding_lines(finding, verbose))
-    errors = len(report.findings.errors())
-    warnings = len(report.findings) - errors
     lines.append(
-        f"\n{errors} finding{'s' if errors != 1 else ''}, {warnings} warning{'s' if warnings != 1 else ''}"
+        "\n" + totals_line(report.findings)
         + (f", {report.restarts} server restart{'s' if report.restarts != 1 else ''}" if report.restarts else "")
     )
     return "\n".join(lines) + "\n"
 
 
+def totals_line(findings: Any) -> str:
+    """``N findings (E errors, W warnings)``: warnings are findings too."""
+    total = len(findings)
+    errors = len(findings.errors())
+    warnings = total - errors
+    return (
+        f"{total} finding{'s' if total != 1 else ''} "
+        f"({errors} error{'s' if errors != 1 else ''}, {warnings} warning{'s' if warnings != 1 else ''})"
+    )
+
+
 def _finding_lines(finding: Any, verbose: bool) -> list[str]:
     mark = "FINDING" if finding.severity == "error" else "warning"
     out = [f"  {mark} [{finding.check}] ({finding.kind}) {finding.message}"]
+    if finding.keyword_location:
+        out.append(f"      keywordLocation: {finding.keyword_location}  instanceLocation: {finding.instance_location!r}")
     if finding.arguments is not None and finding.kind in ("go", "no-go"):
         args = json.dumps(finding.arguments, ensure_ascii=False)
         out.append(f"      arguments: {args if len(args) <= 200 or verbose else args[:197] + '...'}")
@@ -87,7 +98,7 @@ def report_json(report: RunReport) -> str:
     cat = report.catalog
     data = {
         "target": report.target.name,
-        "revision": cat.revision if cat else None,
+        "protocolVersion": cat.revision if cat else None,
         "era": cat.era if cat else None,
         "server": cat.server if cat else None,
         "tools": {
@@ -95,12 +106,12 @@ def report_json(report: RunReport) -> str:
                 "skipped": s.skipped,
                 "annotated": s.annotated,
                 "goCalls": s.go_calls,
-                "goAccepted": s.go_accepted,
+                "goEntered": s.go_entered,
                 "goIsError": s.go_is_error,
                 "nogoCalls": s.nogo_calls,
-                "nogoRejectedProtocol": s.nogo_rejected_protocol,
-                "nogoRejectedIsError": s.nogo_rejected_is_error,
-                "nogoAccepted": s.nogo_accepted,
+                "nogoStoppedProtocol": s.nogo_stopped_protocol,
+                "nogoStoppedIsError": s.nogo_stopped_is_error,
+                "nogoEntered": s.nogo_entered,
                 "probes": s.probes,
                 "medianSeconds": _median(s.durations),
                 "schemaProblem": s.schema_problem,
@@ -111,6 +122,6 @@ def report_json(report: RunReport) -> str:
         },
         "findings": [f.to_json() for f in report.findings],
         "restarts": report.restarts,
-        "planned": [c.__dict__ for c in report.planned],
+        "planned": [c.to_json() for c in report.planned],
     }
     return json.dumps(data, indent=2, ensure_ascii=False, default=str) + "\n"

@@ -12,13 +12,13 @@ from feeler.check.registry import CHECKS
 from feeler.check.runner import RunOptions, RunReport, Runner
 from feeler.connect import connected
 from feeler.errors import HandshakeError, TargetError
-from feeler.revisions import HANDSHAKE_REVISIONS, KNOWN_REVISIONS, MODERN_REVISIONS
+from feeler.revisions import HANDSHAKE_REVISIONS, KNOWN_REVISIONS, STATELESS_REVISIONS
 
 __all__ = ["check_every_revision", "revision_table", "supported_revisions"]
 
 
 def supported_revisions(opts: Any) -> list[str]:
-    """Revisions the server agrees to: each handshake revision is tried pinned; modern ones come
+    """Revisions the server agrees to: each handshake revision is tried pinned; stateless ones come
     from ``server/discover``'s ``supportedVersions``."""
     out: list[str] = []
     session_options = {k: v for k, v in opts.session.items() if k != "revision"}
@@ -30,7 +30,7 @@ def supported_revisions(opts: Any) -> list[str]:
         except HandshakeError:
             continue
         except TargetError:
-            if revision in MODERN_REVISIONS or revision in HANDSHAKE_REVISIONS:
+            if revision in STATELESS_REVISIONS or revision in HANDSHAKE_REVISIONS:
                 continue
     return out
 
@@ -58,11 +58,11 @@ def check_every_revision(opts: Any, options: RunOptions, *, fmt: str, progress: 
 
     revisions = supported_revisions(opts)
     if not revisions:
-        raise HandshakeError("the server agreed to none of the known revisions", target=opts.target.name)
+        raise HandshakeError("the server agreed to none of the known protocol versions", target=opts.target.name)
     reports: dict[str, RunReport] = {}
     for revision in revisions:
         if progress:
-            progress(f"== revision {revision}")
+            progress(f"== protocol version {revision}")
         session_options = {**opts.session, "revision": revision}
         reports[revision] = Runner(opts.target, replace(options), session_options=session_options, progress=progress).run()
     if fmt == "json":
@@ -71,6 +71,6 @@ def check_every_revision(opts: Any, options: RunOptions, *, fmt: str, progress: 
         for revision, report in reports.items():
             click.echo(f"== {revision}")
             click.echo(report_text(report), nl=False)
-        click.echo("\nchecks by revision")
+        click.echo("\nchecks by protocol version")
         click.echo(revision_table(reports), nl=False)
     return max(report.exit_code() for report in reports.values())

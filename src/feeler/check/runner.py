@@ -27,7 +27,7 @@ from feeler.world.anchor import ToolWorld
 
 __all__ = ["Call", "RunOptions", "RunReport", "Runner", "ToolStats", "secret_values"]
 
-CASE_KINDS_RUN = ("catalog", "go", "no-go", "protocol")
+CASE_KINDS_RUN = ("catalog", "go", "no-go", "probe")
 _SECRET_NAME = re.compile(r"KEY|TOKEN|SECRET|PASSWORD|PASSWD|CREDENTIAL|PRIVATE|AUTH", re.IGNORECASE)
 
 
@@ -39,17 +39,18 @@ def secret_values(extra_env: dict[str, str] | None = None) -> tuple[str, ...]:
 
 @dataclass
 class RunOptions:
-    """What to run. Defaults suit a CI run; a nightly campaign raises ``go_examples``.
+    """What to run. The defaults are the ``standard`` depth (see :mod:`feeler.depth`), locally and in CI.
 
-    :param go_examples: hypothesis-drawn go cases per tool (besides the boundary cases).
+    :param samples: sampled go cases per tool (besides the boundary cases).
+    :param sample_seed: the seed of the sampled cases (the same seed draws the same cases).
     :param allow_destructive: also call tools annotated ``destructiveHint: true``.
     :param dry_run: list the calls that would be made; call nothing but the list methods.
     :param values: values from the server's world (known, learned...) put into the cases
         (:mod:`feeler.world`); the runner adds schema hints to it.
     """
 
-    seed: int = 0
-    go_examples: int = 20
+    sample_seed: int = 0
+    samples: int = 20
     include: list[str] = field(default_factory=list)
     exclude: list[str] = field(default_factory=list)
     allow_destructive: bool = False
@@ -83,12 +84,12 @@ class ToolStats:
     skipped: str | None = None
     annotated: bool = True
     go_calls: int = 0
-    go_accepted: int = 0
+    go_entered: int = 0
     go_is_error: int = 0
     nogo_calls: int = 0
-    nogo_rejected_protocol: int = 0
-    nogo_rejected_is_error: int = 0
-    nogo_accepted: int = 0
+    nogo_stopped_protocol: int = 0
+    nogo_stopped_is_error: int = 0
+    nogo_entered: int = 0
     probes: int = 0
     timeouts: int = 0
     durations: list[float] = field(default_factory=list)
@@ -103,20 +104,21 @@ class ToolStats:
     learned_from: dict[str, int] = field(default_factory=dict)
 
     def coverage_summary(self) -> dict[str, Any]:
-        """How many schema keywords (by location) got a go and a no-go case, and which got none, why."""
+        """How many schema keywords (by location) were gauged at both ends (a go and a no-go case), and
+        which were not, and why."""
         full = [c for c in self.coverage if c.go and c.nogo]
         gaps = [
-            {"schemaPath": c.schema_path or "/", "keyword": c.keyword, "go": c.go, "nogo": c.nogo, "reason": c.reason}
+            {"keywordLocation": f"{c.schema_path}/{c.keyword}", "keyword": c.keyword, "go": c.go, "nogo": c.nogo, "reason": c.reason}
             for c in self.coverage
             if not (c.go and c.nogo)
         ]
-        return {"keywords": len(self.coverage), "both": len(full), "gaps": gaps}
+        return {"keywords": len(self.coverage), "gaugedBothEnds": len(full), "gaps": gaps}
 
     def rejection_style(self, revision: str) -> str:
-        """Which way the tool rejects bad arguments, and whether that fits *revision*."""
-        p, e = self.nogo_rejected_protocol, self.nogo_rejected_is_error
+        """Which way the tool stops no-go cases, and whether that fits protocol version *revision*."""
+        p, e = self.nogo_stopped_protocol, self.nogo_stopped_is_error
         if not p and not e:
-            return "no rejections seen"
+            return "no no-go case stopped"
         style = "isError results" if e >= p else "-32602 protocol errors"
         prefers_is_error = revision >= "2025-11-25"
         fits = (e >= p) == prefers_is_error or not prefers_is_error
@@ -133,7 +135,22 @@ class Call:
     keyword: str | None
     path: str | None
     arguments: Any
-    origin: str = ""
+    source: str = ""
+    keyword_location: str | None = None
+
+    def to_json(self) -> dict[str, Any]:
+        """One line of ``feeler check --dry-run`` (JSON Lines)."""
+        from feeler._json import to_pointer
+
+        return {
+            "tool": self.tool,
+            "kind": self.kind,
+            "keyword": self.keyword,
+            "keywordLocation": self.keyword_location,
+            "instanceLocation": to_pointer(self.path),
+            "source": self.source or None,
+            "arguments": self.arguments,
+        }
 
 
 @dataclass
@@ -313,7 +330,7 @@ class Runner:
                 self._guidance(tool, stats)
             if "no-go" in kinds:
                 self._nogo(tool, stats)
-        if "protocol" in kinds and self.options.probes and not reason:
+        if "probe" in kinds and self.options.probes and not reason:
             self._probes(tool, stats)
         if "go" in kinds and not reason:
             self._evaluate(CallContext("tool", tool, self.revision, self.era, self.settings, stats=stats))
@@ -365,17 +382,17 @@ class Runner:
         from feeler.world.plan import base_cases
 
         bases = self._bases(tool, stats)
-        planned = base_cases(tool, self.pool, bases) + go_cases(tool.input_schema, seed=self.options.seed)
+        planned = base_cases(tool, self.pool, bases) + go_cases(tool.input_schema, seed=self.options.sample_seed)
         for pick, case in enumerate(planned):
             case = with_values(tool.input_schema, tool.name, case, self.pool, pick=pick, sources=CASE_SOURCES)
             stats.cases.append(case)
             if not self._call_case(tool, stats, case) or not self._bound_base(tool, stats, case):
                 return
-        if self.options.go_examples <= 0 or self.options.dry_run:
+        if self.options.samples <= 0 or self.options.dry_run:
             if self.options.dry_run:
                 from feeler.generate import drawn_cases
 
-                for pick, case in enumerate(drawn_cases(tool.input_schema, self.options.go_examples, seed=self.options.seed)):
+                for pick, case in enumerate(drawn_cases(tool.input_schema, self.options.samples, seed=self.options.sample_seed)):
                     self._call_case(tool, stats, with_values(tool.input_schema, tool.name, case, self.pool, pick=pick, sources=CASE_SOURCES))
             return
         self._drawn_go(tool, stats, arguments(tool.input_schema))
@@ -417,7 +434,7 @@ class Runner:
             )  # fmt: skip
 
     def _drawn_go(self, tool: Tool, stats: ToolStats, strategy: Any) -> None:
-        """Drawn go cases in a hypothesis property, so a failure is shrunk to the smallest arguments."""
+        """Sampled go cases in a hypothesis property, so a failure is shrunk to the smallest arguments."""
         from hypothesis import HealthCheck, Phase, Verbosity, given, seed, settings
         from hypothesis import strategies as st
 
@@ -429,7 +446,7 @@ class Runner:
             phases.insert(0, Phase.reuse)
 
         @settings(
-            max_examples=self.options.go_examples,
+            max_examples=self.options.samples,
             deadline=None,
             database=self.options.example_db,
             phases=phases,
@@ -437,10 +454,10 @@ class Runner:
             verbosity=Verbosity.quiet,
             report_multiple_bugs=True,
         )
-        @seed(self.options.seed)
+        @seed(self.options.sample_seed)
         @given(strategy, st.integers(0, 255) if len(self.pool) else st.just(0))
         def prop(args: Any, pick: int) -> None:
-            case = Case("go", None, "$", "", args, None, "hypothesis", "drawn")
+            case = Case("go", None, "$", "", args, None, "sampled", "sampled")
             case = with_values(tool.input_schema, tool.name, case, self.pool, pick=pick, sources=CASE_SOURCES)
             failed = self._call_case(tool, stats, case, collect=True)
             if failed:
@@ -489,7 +506,9 @@ class Runner:
         """Call *tool* with *case*; run the checks. Returns False when the tool should not be called again
         (or, with *collect*, the names of the checks that failed, for the hypothesis property)."""
         if self.options.dry_run:
-            self.report.planned.append(Call(tool.name, case.kind, case.keyword, case.path, case.arguments, case.origin))
+            self.report.planned.append(
+                Call(tool.name, case.kind, case.keyword, case.path, case.arguments, case.source, case.schema_path or None)
+            )
             return [] if collect else True
         if stats.timeouts >= self.options.max_timeouts_per_tool:
             if collect:
@@ -542,17 +561,17 @@ class Runner:
                 if ex.is_error_result:
                     stats.go_is_error += 1
                 else:
-                    stats.go_accepted += 1
+                    stats.go_entered += 1
         elif ctx.kind == "no-go":
             verdict = stats.world.note_nogo(ctx.case, ex, ctx.failure)
             ctx.base = "entered" if verdict in ("stopped", "entered") and stats.world.base_of(ctx.case) is not None else None
             stats.nogo_calls += 1
             if ex is not None and ex.error is not None and ex.error.get("code") == -32602:
-                stats.nogo_rejected_protocol += 1
+                stats.nogo_stopped_protocol += 1
             elif ex is not None and ex.is_error_result:
-                stats.nogo_rejected_is_error += 1
+                stats.nogo_stopped_is_error += 1
             elif ex is not None and isinstance(ex.result, dict):
-                stats.nogo_accepted += 1
+                stats.nogo_entered += 1
 
     def _alive(self, tool: Tool, case: Any) -> list[str]:
         ctx = CallContext("alive", tool, self.revision, self.era, self.settings, case=case)
@@ -588,6 +607,9 @@ class Runner:
             error_class=problem.error_class,
             keyword=getattr(case, "keyword", None),
             path=getattr(case, "path", None),
+            keyword_location=getattr(case, "schema_path", None) or None,
+            source=getattr(case, "source", None),
+            boundary=bool(getattr(case, "is_boundary", False)),
             arguments=getattr(case, "arguments", None),
             revision=self.revision,
             request_text=self._request_text(ctx),

@@ -3,7 +3,7 @@ from __future__ import annotations
 
 from feeler.diff.catalog import CATALOG_RULES, DiffReport, diff_catalogs, diff_tool
 from feeler.diff.engine import DEFAULT_SAMPLES, diff_schemas
-from feeler.diff.model import Change, Direction, Effect, Finding, Verdict, bump_for, overall_bump
+from feeler.diff.model import Change, Direction, Effect, SchemaEdit, Verdict, bump_for, overall_bump
 from feeler.diff.outputs import OutputChange, OutputMasks, apply_masks, compare_outputs
 from feeler.diff.report import render
 from feeler.diff.rules import SCHEMA_RULES, schema_rule
@@ -23,7 +23,7 @@ __all__ = [
     "Change",
     "Direction",
     "Effect",
-    "Finding",
+    "SchemaEdit",
     "Verdict",
     "bump_for",
     "diff_schemas",

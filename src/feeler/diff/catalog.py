@@ -50,7 +50,7 @@ def catalog_rule(name: str) -> Callable[[CatalogRule], CatalogRule]:
 
 
 def _c(kind: str, verdict: Verdict, message: str, subject: str, **kw: Any) -> Change:
-    return Change(kind=kind, direction=kw.pop("direction", Direction.CATALOG), verdict=verdict, message=message,
+    return Change(rule=kind, direction=kw.pop("direction", Direction.CATALOG), verdict=verdict, message=message,
                   subject=subject, **kw)
 
 
@@ -118,7 +118,7 @@ def _output_schema(old: Tool, new: Tool, subject: str, samples: int) -> Iterator
         # it the server may return anything or no structuredContent at all.
         change = _c("output-schema-removed", Verdict.LIKELY_BREAKING, "outputSchema removed: the server is "
                     "no longer bound to return structuredContent of that shape", subject,
-                    direction=Direction.OUTPUT, schema_path="$", instance_path="$")
+                    direction=Direction.OUTPUT, keyword_location="", instance_location="")
         kit = Kit(so)
         for value in kit.invalid_values(so):
             change.verdict, change.witness, change.has_witness = Verdict.BREAKING, value, True
@@ -311,5 +311,5 @@ def diff_catalogs(old: Catalog, new: Catalog, *, samples: int = DEFAULT_SAMPLES,
             changes.extend(rule(old, new, samples))
         except NoInstance:  # pragma: no cover - a builder failure must not hide the other rules
             continue
-    changes.sort(key=lambda c: (_ORDER[c.verdict], c.subject, c.direction.value, c.schema_path, c.kind, c.message))
+    changes.sort(key=lambda c: (_ORDER[c.verdict], c.subject, c.direction.value, c.keyword_location, c.rule, c.message))
     return DiffReport(changes, old_label, new_label)

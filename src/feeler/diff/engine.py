@@ -19,9 +19,9 @@ from collections.abc import Iterator
 from dataclasses import dataclass, field
 from typing import Any
 
-from feeler._json import json_path
+from feeler._json import json_pointer
 from feeler._limits import schema_limit_problem
-from feeler.diff.model import Change, Direction, Effect, Finding, Verdict
+from feeler.diff.model import Change, Direction, Effect, SchemaEdit, Verdict
 from feeler.diff.rules import RULE_KEYWORDS, SCHEMA_RULES
 from feeler.diff.witness import Kit, NoInstance, is_valid, validator
 
@@ -133,9 +133,9 @@ def _visit(walk: _Walk, o: Any, n: Any, spath: list[Any], trail: list[Step], see
     except (KeyError, IndexError, ValueError):
         if o != n:
             walk.changes.append(Change(
-                kind="ref", direction=walk.direction, verdict=Verdict.REVIEW, subject=walk.subject,
+                rule="ref", direction=walk.direction, verdict=Verdict.REVIEW, subject=walk.subject,
                 message=f"$ref {refs[0]!r} -> {refs[1]!r} cannot be resolved locally; compare them by hand",
-                schema_path=json_path(spath), instance_path=json_path([s[0] for s in trail])))
+                keyword_location=json_pointer(spath), instance_location=json_pointer([s[0] for s in trail])))
         return
     if o == n or not isinstance(o, dict) or not isinstance(n, dict):
         return
@@ -173,11 +173,11 @@ def _children(o: dict[str, Any], n: dict[str, Any]) -> Iterator[tuple[Any, Any, 
     _ = (no, nn)  # `not` edits are judged whole by the `not` rule: recursing would invert every verdict
 
 
-def _judge(walk: _Walk, rule: str, f: Finding, o: Any, n: Any, spath: list[Any], trail: list[Step]) -> Change:
+def _judge(walk: _Walk, rule: str, f: SchemaEdit, o: Any, n: Any, spath: list[Any], trail: list[Step]) -> Change:
     change = Change(
-        kind=rule, direction=walk.direction, verdict=Verdict.COMPATIBLE, message=f.message, subject=walk.subject,
-        schema_path=json_path(spath + ([f.keyword] if f.keyword else [])),
-        instance_path=json_path([s[0] for s in trail]),
+        rule=rule, direction=walk.direction, verdict=Verdict.COMPATIBLE, message=f.message, subject=walk.subject,
+        keyword_location=json_pointer(spath + ([f.keyword] if f.keyword else [])),
+        instance_location=json_pointer([s[0] for s in trail]),
     )
     if f.review or f.effect is Effect.NEUTRAL:
         change.verdict = Verdict.REVIEW
@@ -240,7 +240,7 @@ _LOOSE_RULES = frozenset({"allOf", "anyOf", "oneOf", "not", "conditional", "patt
                           "unevaluated", "properties", "additionalProperties", "items", "sampled"})
 
 
-def _find_witness(walk: _Walk, rule: str, f: Finding, o: Any, n: Any, trail: list[Step]) -> tuple[Any, int]:
+def _find_witness(walk: _Walk, rule: str, f: SchemaEdit, o: Any, n: Any, trail: list[Step]) -> tuple[Any, int]:
     side = walk.accept_side
     other = "new" if side == "old" else "old"
     a, b = (o, n) if side == "old" else (n, o)
@@ -347,9 +347,9 @@ def _sample_compatible(walk: _Walk) -> None:
         if not is_valid(walk.root(other), instance):
             what = "old accepts and the new rejects" if side == "old" else "new allows and the old forbids"
             walk.changes.append(Change(
-                kind="sampled", direction=walk.direction, verdict=Verdict.BREAKING, subject=walk.subject,
+                rule="sampled", direction=walk.direction, verdict=Verdict.BREAKING, subject=walk.subject,
                 message=f"a sampled instance that the {what} (no keyword rule explains it; review the edit)",
-                schema_path="$", instance_path="$", witness=instance, has_witness=True, samples_tried=tried))
+                keyword_location="", instance_location="", witness=instance, has_witness=True, samples_tried=tried))
             return
     for change in walk.changes:
         if change.verdict is Verdict.COMPATIBLE:

@@ -1,6 +1,6 @@
 """The values the diff engine produces: :class:`Change`, verdicts, directions and Semantic Versioning bumps.
 
-A rule never builds a :class:`Change` itself: it yields a :class:`Finding` (what happened to the set of
+A rule never builds a :class:`Change` itself: it yields a :class:`SchemaEdit` (what happened to the set of
 accepted values, and a message), and the engine fills in tool, direction, paths, verdict and witness —
 as jsonschema's ``iter_errors`` fills in the context of a keyword's error.
 """
@@ -17,7 +17,7 @@ __all__ = [
     "Change",
     "Direction",
     "Effect",
-    "Finding",
+    "SchemaEdit",
     "Verdict",
     "bump_for",
     "overall_bump",
@@ -61,7 +61,7 @@ Candidates = Callable[[Any, Any], Iterable[Any]]
 
 
 @dataclass
-class Finding:
+class SchemaEdit:
     """What one rule reports at one place in a schema pair; the engine turns it into a :class:`Change`.
 
     :param effect: how the edit moves the set of accepted instances.
@@ -86,26 +86,28 @@ class Finding:
 class Change:
     """One difference between two catalogs (or two schemas), with its verdict and its proof.
 
-    :param kind: the rule's name, e.g. ``"enum"`` or ``"tool-removed"``.
+    :param rule: the rule's name, e.g. ``"enum"`` or ``"tool-removed"``.
     :param direction: input, output, or catalog.
     :param verdict: see :class:`Verdict`.
     :param message: a human sentence naming what changed.
     :param subject: what the change is about: ``"tool:create_ticket"``, ``"prompt:triage"``, ``"capabilities"``.
-    :param schema_path: where in the schema (``$.properties.size.maximum``); empty for catalog changes.
-    :param instance_path: where in the argument / result (``$.size``); empty for catalog changes.
+    :param keyword_location: where in the schema, a JSON Pointer (``/properties/size/maximum``); empty
+        for catalog changes.
+    :param instance_location: where in the argument / result, a JSON Pointer (``/size``, ``""`` for the
+        root); empty for catalog changes.
     :param witness: a whole argument object (input) or result (output) that proves the verdict, or None.
     :param samples_tried: how many instances were checked while looking for a witness.
     :param reason: why a breaking-looking change was downgraded to likely-breaking, or other detail.
     :param hint: an extra pointer (e.g. "probably renamed to X").
     """
 
-    kind: str
+    rule: str
     direction: Direction
     verdict: Verdict
     message: str
     subject: str = ""
-    schema_path: str = ""
-    instance_path: str = ""
+    keyword_location: str = ""
+    instance_location: str = ""
     witness: Any = None
     samples_tried: int = 0
     reason: str = ""
@@ -125,14 +127,14 @@ class Change:
 
     def to_json(self) -> dict[str, Any]:
         out: dict[str, Any] = {
-            "kind": self.kind,
+            "rule": self.rule,
             "direction": self.direction.value,
             "verdict": self.verdict.value,
             "bump": self.bump,
             "subject": self.subject,
             "message": self.message,
-            "schemaPath": self.schema_path,
-            "instancePath": self.instance_path,
+            "keywordLocation": self.keyword_location,
+            "instanceLocation": self.instance_location,
             "samplesTried": self.samples_tried,
         }
         if self.has_witness:
@@ -147,7 +149,7 @@ class Change:
 #: Semantic Versioning 2.0.0 bump levels, least to most severe.
 BUMP_ORDER = ("none", "patch", "minor", "major")
 
-#: Kinds that add something a client may start to use: a MINOR bump (semver.org item 7).
+#: Rules that add something a client may start to use: a MINOR bump (semver.org item 7).
 ADDITIVE_KINDS = frozenset(
     {
         "tool-added",
@@ -171,7 +173,7 @@ def bump_for(change: Change) -> str:
     """
     if change.is_breaking:
         return "major"
-    if change.verdict is Verdict.COMPATIBLE and (change.kind in ADDITIVE_KINDS or change.addition):
+    if change.verdict is Verdict.COMPATIBLE and (change.rule in ADDITIVE_KINDS or change.addition):
         return "minor"
     return "patch"
 

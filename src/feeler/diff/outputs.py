@@ -20,7 +20,7 @@ from collections.abc import Iterable, Mapping
 from dataclasses import dataclass, field
 from typing import Any
 
-from feeler._json import json_path
+from feeler._json import json_pointer
 from feeler.errors import UsageError
 
 __all__ = ["MASK", "OutputChange", "OutputMasks", "apply_masks", "compare_outputs"]
@@ -30,7 +30,11 @@ _TOKEN = re.compile(r"\.(\*|[A-Za-z_$][\w$-]*)|\[(\*|\d+|\"(?:[^\"\\]|\\.)*\"|'[
 
 
 def _parse_path(path: str) -> list[Any]:
-    """``$.a[0].b[*]`` -> ["a", 0, "b", "*"]; UsageError naming the mask when it is not a path."""
+    """``$.a[0].b[*]`` (or the JSON Pointer ``/a/0/b/*``) -> ["a", 0, "b", "*"]; UsageError naming the
+    mask when it is not a path."""
+    if path.startswith("/"):
+        tokens = [t.replace("~1", "/").replace("~0", "~") for t in path[1:].split("/")]
+        return [int(t) if t.isdigit() else t for t in tokens]
     if not path.startswith("$"):
         raise UsageError(f"output mask {path!r} must start with '$' (e.g. '$.structuredContent.issuedAt')")
     out: list[Any] = []
@@ -132,13 +136,13 @@ class OutputChange:
     :param tool: the tool name.
     :param arguments: the pinned arguments of the case.
     :param kind: ``changed``, ``added``, ``removed``, ``type-changed``, ``case-added``, ``case-removed``.
-    :param path: where in the result (``$.structuredContent.total``).
+    :param path: where in the result, a JSON Pointer (``/structuredContent/total``; ``""`` the root).
     """
 
     tool: str
     arguments: Any
     kind: str
-    path: str = "$"
+    path: str = ""
     old: Any = None
     new: Any = None
 
@@ -148,10 +152,10 @@ class OutputChange:
         if self.kind in ("case-added", "case-removed"):
             return f"{head}: {self.kind.replace('case-', 'case ')}"
         if self.kind == "added":
-            return f"{head}: {self.path} added: {_j(self.new)}"
+            return f"{head}: {self.path!r} added: {_j(self.new)}"
         if self.kind == "removed":
-            return f"{head}: {self.path} removed (was {_j(self.old)})"
-        return f"{head}: {self.path} {_j(self.old)} -> {_j(self.new)}"
+            return f"{head}: {self.path!r} removed (was {_j(self.old)})"
+        return f"{head}: {self.path!r} {_j(self.old)} -> {_j(self.new)}"
 
 
 def _j(value: Any) -> str:
@@ -202,7 +206,7 @@ def compare_outputs(old: Iterable[Mapping[str, Any]], new: Iterable[Mapping[str,
         for report_type, items in tree.items():
             kind = _DD_KINDS.get(report_type, report_type)
             for item in items:
-                path = json_path(item.path(output_format="list"))
+                path = json_pointer(item.path(output_format="list"))
                 t1 = None if type(item.t1).__name__ == "NotPresent" else item.t1
                 t2 = None if type(item.t2).__name__ == "NotPresent" else item.t2
                 found.append(OutputChange(tool, args, kind, path, t1, t2))

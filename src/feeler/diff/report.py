@@ -21,8 +21,8 @@ _LABEL = {
 
 def _where(c: Change) -> str:
     parts = [c.subject or "-", c.direction.value]
-    if c.instance_path:
-        parts.append(f"at {c.instance_path}")
+    if c.instance_location:
+        parts.append(f"at {c.instance_location}")
     return " ".join(parts)
 
 
@@ -39,7 +39,7 @@ def _summary(report: DiffReport) -> str:
 def text(report: DiffReport) -> str:
     lines = [f"feeler diff: {report.old_label} -> {report.new_label}"]
     for c in report.changes:
-        lines.append(f"  [{_LABEL[c.verdict]}] {_where(c)}: {c.message} ({c.kind}, {c.bump})")
+        lines.append(f"  [{_LABEL[c.verdict]}] {_where(c)}: {c.message} ({c.rule}, {c.bump})")
         if c.hint:
             lines.append(f"      hint: {c.hint}")
         if c.has_witness:
@@ -65,7 +65,7 @@ def markdown(report: DiffReport) -> str:
         lines += ["| verdict | subject | direction | where | change | bump |", "|---|---|---|---|---|---|"]
         for c in report.changes:
             lines.append(f"| {_LABEL[c.verdict]} | `{_md_cell(c.subject)}` | {c.direction.value} | "
-                         f"`{_md_cell(c.instance_path or '-')}` | {_md_cell(c.message)} | {c.bump} |")
+                         f"`{_md_cell(c.instance_location or '-')}` | {_md_cell(c.message)} | {c.bump} |")
         proofs = [c for c in report.changes if c.has_witness or c.reason or c.hint]
         if proofs:
             lines += ["", "<details><summary>Witnesses and reasons</summary>", ""]

@@ -1,7 +1,7 @@
 """Schema diff rules: one small function per JSON Schema keyword family, registered in :data:`SCHEMA_RULES`.
 
 Each rule gets the old and the new subschema at one place (``$ref`` already inlined, booleans turned
-into objects) and yields :class:`~feeler.diff.model.Finding` objects saying how the keyword edit moves
+into objects) and yields :class:`~feeler.diff.model.SchemaEdit` objects saying how the keyword edit moves
 the set of accepted instances: NARROWS (fewer accepted), WIDENS (more accepted), CHANGES (neither) or
 NEUTRAL (annotation only). The engine applies the direction — inputs are contravariant (narrowing breaks
 old callers), outputs covariant (widening breaks old readers) — and looks for a witness with the rule's
@@ -17,13 +17,13 @@ import math
 from collections.abc import Callable, Iterator, Mapping
 from typing import Any
 
-from feeler.diff.model import Effect, Finding
+from feeler.diff.model import Effect, SchemaEdit
 from feeler.diff.witness import ANNOTATION_KEYWORDS, Kit, NoInstance
 
 __all__ = ["SCHEMA_RULES", "RULE_KEYWORDS", "Rule", "schema_rule", "HANDLED_KEYWORDS"]
 
 Schema = Mapping[str, Any]
-Rule = Callable[[Schema, Schema], Iterator[Finding]]
+Rule = Callable[[Schema, Schema], Iterator[SchemaEdit]]
 
 #: name -> rule; filled by :func:`schema_rule`, in evaluation order.
 SCHEMA_RULES: dict[str, Rule] = {}
@@ -90,7 +90,7 @@ def _covers(types: set[str] | None, t: str) -> bool:
 
 # -- rules --------------------------------------------------------------------------------------
 @schema_rule("type", "type")
-def type_(old: Schema, new: Schema) -> Iterator[Finding]:
+def type_(old: Schema, new: Schema) -> Iterator[SchemaEdit]:
     """``type`` (Validation 6.1.1): a type no longer allowed narrows; a type newly allowed widens."""
     to, tn = _types(old), _types(new)
     if to == tn:
@@ -115,16 +115,16 @@ def type_(old: Schema, new: Schema) -> Iterator[Finding]:
 
     desc = f"type {sorted(to) if to else 'any'} -> {sorted(tn) if tn else 'any'}"
     if lost and gained:
-        yield Finding(Effect.CHANGES, f"{desc}: {', '.join(lost)} no longer allowed, {', '.join(gained)} now allowed",
+        yield SchemaEdit(Effect.CHANGES, f"{desc}: {', '.join(lost)} no longer allowed, {', '.join(gained)} now allowed",
                       cands, "type")
     elif lost:
-        yield Finding(Effect.NARROWS, f"{desc}: {', '.join(lost)} no longer allowed", cands, "type")
+        yield SchemaEdit(Effect.NARROWS, f"{desc}: {', '.join(lost)} no longer allowed", cands, "type")
     elif gained:
-        yield Finding(Effect.WIDENS, f"{desc}: {', '.join(gained)} now allowed", cands, "type")
+        yield SchemaEdit(Effect.WIDENS, f"{desc}: {', '.join(gained)} now allowed", cands, "type")
 
 
 @schema_rule("enum", "enum")
-def enum(old: Schema, new: Schema) -> Iterator[Finding]:
+def enum(old: Schema, new: Schema) -> Iterator[SchemaEdit]:
     """``enum`` (Validation 6.1.2): members removed narrow, members added widen, enum added/removed likewise."""
     eo, en = old.get("enum"), new.get("enum")
     if eo == en:
@@ -142,19 +142,19 @@ def enum(old: Schema, new: Schema) -> Iterator[Finding]:
         removed = [m for m in eo if m not in en]
         added = [m for m in en if m not in eo]
         if removed and added:
-            yield Finding(Effect.CHANGES, f"enum members removed {removed!r}, added {added!r}", cands, "enum")
+            yield SchemaEdit(Effect.CHANGES, f"enum members removed {removed!r}, added {added!r}", cands, "enum")
         elif removed:
-            yield Finding(Effect.NARROWS, f"enum members removed: {removed!r}", cands, "enum")
+            yield SchemaEdit(Effect.NARROWS, f"enum members removed: {removed!r}", cands, "enum")
         elif added:
-            yield Finding(Effect.WIDENS, f"enum members added: {added!r}", cands, "enum")
+            yield SchemaEdit(Effect.WIDENS, f"enum members added: {added!r}", cands, "enum")
     elif isinstance(en, list):
-        yield Finding(Effect.NARROWS, f"enum {en!r} added", cands, "enum")
+        yield SchemaEdit(Effect.NARROWS, f"enum {en!r} added", cands, "enum")
     else:
-        yield Finding(Effect.WIDENS, f"enum {eo!r} removed", cands, "enum")
+        yield SchemaEdit(Effect.WIDENS, f"enum {eo!r} removed", cands, "enum")
 
 
 @schema_rule("const", "const")
-def const(old: Schema, new: Schema) -> Iterator[Finding]:
+def const(old: Schema, new: Schema) -> Iterator[SchemaEdit]:
     """``const`` (Validation 6.1.3): added narrows, removed widens, changed changes."""
     has_o, has_n = "const" in old, "const" in new
     if has_o == has_n and old.get("const") == new.get("const"):
@@ -167,11 +167,11 @@ def const(old: Schema, new: Schema) -> Iterator[Finding]:
         yield from kit.draws(a, 10)
 
     if has_o and has_n:
-        yield Finding(Effect.CHANGES, f"const {old['const']!r} -> {new['const']!r}", cands, "const")
+        yield SchemaEdit(Effect.CHANGES, f"const {old['const']!r} -> {new['const']!r}", cands, "const")
     elif has_n:
-        yield Finding(Effect.NARROWS, f"const {new['const']!r} added", cands, "const")
+        yield SchemaEdit(Effect.NARROWS, f"const {new['const']!r} added", cands, "const")
     else:
-        yield Finding(Effect.WIDENS, f"const {old['const']!r} removed", cands, "const")
+        yield SchemaEdit(Effect.WIDENS, f"const {old['const']!r} removed", cands, "const")
 
 
 def _lower(s: Schema) -> tuple[float, bool] | None:
@@ -220,27 +220,27 @@ def _bound_cands(kit: Kit, a: Schema, b: Schema) -> Iterator[Any]:
 
 
 @schema_rule("minimum", "minimum", "exclusiveMinimum")
-def minimum(old: Schema, new: Schema) -> Iterator[Finding]:
+def minimum(old: Schema, new: Schema) -> Iterator[SchemaEdit]:
     """``minimum`` / ``exclusiveMinimum`` (Validation 6.2.4-6.2.5): a raised lower bound narrows."""
     lo, ln = _lower(old), _lower(new)
     effect = _cmp_bound(lo, ln, lower=True)
     if effect:
-        yield Finding(effect, f"lower bound {_fmt_bound(lo, True)} -> {_fmt_bound(ln, True)}", _bound_cands,
+        yield SchemaEdit(effect, f"lower bound {_fmt_bound(lo, True)} -> {_fmt_bound(ln, True)}", _bound_cands,
                       "minimum" if "minimum" in new or "minimum" in old else "exclusiveMinimum")
 
 
 @schema_rule("maximum", "maximum", "exclusiveMaximum")
-def maximum(old: Schema, new: Schema) -> Iterator[Finding]:
+def maximum(old: Schema, new: Schema) -> Iterator[SchemaEdit]:
     """``maximum`` / ``exclusiveMaximum`` (Validation 6.2.2-6.2.3): a lowered upper bound narrows."""
     uo, un = _upper(old), _upper(new)
     effect = _cmp_bound(uo, un, lower=False)
     if effect:
-        yield Finding(effect, f"upper bound {_fmt_bound(uo, False)} -> {_fmt_bound(un, False)}", _bound_cands,
+        yield SchemaEdit(effect, f"upper bound {_fmt_bound(uo, False)} -> {_fmt_bound(un, False)}", _bound_cands,
                       "maximum" if "maximum" in new or "maximum" in old else "exclusiveMaximum")
 
 
 @schema_rule("multipleOf", "multipleOf")
-def multiple_of(old: Schema, new: Schema) -> Iterator[Finding]:
+def multiple_of(old: Schema, new: Schema) -> Iterator[SchemaEdit]:
     """``multipleOf`` (Validation 6.2.1): a stricter step narrows, a finer or removed step widens."""
     mo, mn = old.get("multipleOf"), new.get("multipleOf")
     if mo == mn:
@@ -269,11 +269,11 @@ def multiple_of(old: Schema, new: Schema) -> Iterator[Finding]:
         effect = Effect.WIDENS
     else:
         effect = Effect.CHANGES
-    yield Finding(effect, f"multipleOf {mo!r} -> {mn!r}", cands, "multipleOf")
+    yield SchemaEdit(effect, f"multipleOf {mo!r} -> {mn!r}", cands, "multipleOf")
 
 
 def _size_rule(name: str, lo_kw: str, hi_kw: str, maker: Callable[[Kit, Schema, int], Any]) -> None:
-    def rule(old: Schema, new: Schema) -> Iterator[Finding]:
+    def rule(old: Schema, new: Schema) -> Iterator[SchemaEdit]:
         for kw, lower in ((lo_kw, True), (hi_kw, False)):
             vo, vn = old.get(kw), new.get(kw)
             if vo == vn:
@@ -289,7 +289,7 @@ def _size_rule(name: str, lo_kw: str, hi_kw: str, maker: Callable[[Kit, Schema, 
                         if 0 <= n <= 10_000:
                             yield from _safe(lambda n=n: iter([maker(kit, a, n)]))
 
-            yield Finding(effect, f"{kw} {vo!r} -> {vn!r}", cands, kw)
+            yield SchemaEdit(effect, f"{kw} {vo!r} -> {vn!r}", cands, kw)
 
     rule.__doc__ = f"``{lo_kw}`` / ``{hi_kw}``: a raised minimum or lowered maximum narrows."
     rule.__name__ = name
@@ -333,7 +333,7 @@ _size_rule("properties-count", "minProperties", "maxProperties", _object_of)  # 
 
 
 @schema_rule("pattern", "pattern")
-def pattern(old: Schema, new: Schema) -> Iterator[Finding]:
+def pattern(old: Schema, new: Schema) -> Iterator[SchemaEdit]:
     """``pattern`` (Validation 6.3.3): added narrows, removed widens, replaced changes."""
     po, pn = old.get("pattern"), new.get("pattern")
     if po == pn:
@@ -345,11 +345,11 @@ def pattern(old: Schema, new: Schema) -> Iterator[Finding]:
         yield from kit.draws(a, 15)
 
     effect = Effect.NARROWS if po is None else Effect.WIDENS if pn is None else Effect.CHANGES
-    yield Finding(effect, f"pattern {po!r} -> {pn!r}", cands, "pattern")
+    yield SchemaEdit(effect, f"pattern {po!r} -> {pn!r}", cands, "pattern")
 
 
 @schema_rule("format", "format")
-def format_(old: Schema, new: Schema) -> Iterator[Finding]:
+def format_(old: Schema, new: Schema) -> Iterator[SchemaEdit]:
     """``format`` (Validation 7, asserted here: feeler validates with the format checker on)."""
     fo, fn = old.get("format"), new.get("format")
     if fo == fn:
@@ -360,17 +360,17 @@ def format_(old: Schema, new: Schema) -> Iterator[Finding]:
         yield from ("", "not a value of this format", "2024-01-02", "a@example.org", "https://example.org/a")
 
     effect = Effect.NARROWS if fo is None else Effect.WIDENS if fn is None else Effect.CHANGES
-    yield Finding(effect, f"format {fo!r} -> {fn!r}", cands, "format")
+    yield SchemaEdit(effect, f"format {fo!r} -> {fn!r}", cands, "format")
 
 
 @schema_rule("required", "required")
-def required(old: Schema, new: Schema) -> Iterator[Finding]:
+def required(old: Schema, new: Schema) -> Iterator[SchemaEdit]:
     """``required`` (Validation 6.5.3): a newly required property narrows; a dropped one widens."""
     ro, rn = set(old.get("required", [])), set(new.get("required", []))
     for name in sorted(rn - ro):
-        yield Finding(Effect.NARROWS, f"property {name!r} is now required", _without(name), "required")
+        yield SchemaEdit(Effect.NARROWS, f"property {name!r} is now required", _without(name), "required")
     for name in sorted(ro - rn):
-        yield Finding(Effect.WIDENS, f"property {name!r} is no longer required", _without(name), "required")
+        yield SchemaEdit(Effect.WIDENS, f"property {name!r} is no longer required", _without(name), "required")
 
 
 def _without(name: str) -> Callable[[Kit, Schema, Schema], Iterator[Any]]:
@@ -383,7 +383,7 @@ def _without(name: str) -> Callable[[Kit, Schema, Schema], Iterator[Any]]:
 
 
 @schema_rule("properties", "properties", "additionalProperties")
-def properties(old: Schema, new: Schema) -> Iterator[Finding]:
+def properties(old: Schema, new: Schema) -> Iterator[SchemaEdit]:
     """``properties`` (Core 10.3.2.1): declared properties added or removed (common ones are recursed into).
 
     A property *added* is reported as a compatible addition in both directions, although for an open
@@ -396,14 +396,14 @@ def properties(old: Schema, new: Schema) -> Iterator[Finding]:
     pn = new.get("properties") if isinstance(new.get("properties"), Mapping) else {}
     for name in sorted(set(pn) - set(po)):
         if name not in new.get("required", []):
-            yield Finding(Effect.ADDS, f"optional property {name!r} added", None, "properties")
+            yield SchemaEdit(Effect.ADDS, f"optional property {name!r} added", None, "properties")
     for name in sorted(set(po) - set(pn)):
         closed = new.get("additionalProperties", True) is False
         if closed:
-            yield Finding(Effect.NARROWS, f"property {name!r} removed and additionalProperties is false",
+            yield SchemaEdit(Effect.NARROWS, f"property {name!r} removed and additionalProperties is false",
                           _with_property(name), "properties")
         else:
-            yield Finding(Effect.WIDENS, f"property {name!r} removed", _with_property(name), "properties",
+            yield SchemaEdit(Effect.WIDENS, f"property {name!r} removed", _with_property(name), "properties",
                           input_review=True)
 
 
@@ -425,7 +425,7 @@ def _with_property(name: str) -> Callable[[Kit, Schema, Schema], Iterator[Any]]:
 
 
 @schema_rule("additionalProperties", "additionalProperties")
-def additional_properties(old: Schema, new: Schema) -> Iterator[Finding]:
+def additional_properties(old: Schema, new: Schema) -> Iterator[SchemaEdit]:
     """``additionalProperties`` (Core 10.3.2.3): closing (true -> false) narrows, opening widens.
 
     When both sides are schemas the engine recurses into them instead.
@@ -458,11 +458,11 @@ def additional_properties(old: Schema, new: Schema) -> Iterator[Finding]:
         effect, msg = Effect.NARROWS, "additionalProperties now constrained by a schema"
     else:
         effect, msg = Effect.WIDENS, "additionalProperties no longer constrained"
-    yield Finding(effect, msg, cands, "additionalProperties")
+    yield SchemaEdit(effect, msg, cands, "additionalProperties")
 
 
 @schema_rule("items", "items", "prefixItems")
-def items(old: Schema, new: Schema) -> Iterator[Finding]:
+def items(old: Schema, new: Schema) -> Iterator[SchemaEdit]:
     """``items`` / ``prefixItems`` (Core 10.3.1.1-10.3.1.2): items or tuple slots added/removed/closed.
 
     Schema-to-schema edits are recursed into by the engine; this rule covers presence and tuple length.
@@ -492,16 +492,16 @@ def items(old: Schema, new: Schema) -> Iterator[Finding]:
         yield from kit.draws(a, 15)
 
     if len(po) != len(pn):
-        yield Finding(Effect.CHANGES, f"prefixItems length {len(po)} -> {len(pn)}", cands, "prefixItems")
+        yield SchemaEdit(Effect.CHANGES, f"prefixItems length {len(po)} -> {len(pn)}", cands, "prefixItems")
     if io != in_ and not (isinstance(io, Mapping) and isinstance(in_, Mapping) and io and in_):
         if in_ is False or (io in (True, {}) and isinstance(in_, Mapping) and in_):
-            yield Finding(Effect.NARROWS, f"items {io!r} -> {in_!r}", cands, "items")
+            yield SchemaEdit(Effect.NARROWS, f"items {io!r} -> {in_!r}", cands, "items")
         elif io is False or (in_ in (True, {})):
-            yield Finding(Effect.WIDENS, f"items {io!r} -> {in_!r}", cands, "items")
+            yield SchemaEdit(Effect.WIDENS, f"items {io!r} -> {in_!r}", cands, "items")
 
 
 @schema_rule("uniqueItems", "uniqueItems")
-def unique_items(old: Schema, new: Schema) -> Iterator[Finding]:
+def unique_items(old: Schema, new: Schema) -> Iterator[SchemaEdit]:
     """``uniqueItems`` (Validation 6.4.3): false -> true narrows (duplicates now rejected)."""
     uo, un = bool(old.get("uniqueItems", False)), bool(new.get("uniqueItems", False))
     if uo == un:
@@ -516,11 +516,11 @@ def unique_items(old: Schema, new: Schema) -> Iterator[Finding]:
 
         yield from _safe(gen)
 
-    yield Finding(Effect.NARROWS if un else Effect.WIDENS, f"uniqueItems {uo} -> {un}", cands, "uniqueItems")
+    yield SchemaEdit(Effect.NARROWS if un else Effect.WIDENS, f"uniqueItems {uo} -> {un}", cands, "uniqueItems")
 
 
 @schema_rule("dependentRequired", "dependentRequired")
-def dependent_required(old: Schema, new: Schema) -> Iterator[Finding]:
+def dependent_required(old: Schema, new: Schema) -> Iterator[SchemaEdit]:
     """``dependentRequired`` (Validation 6.5.4): a new dependency narrows, a dropped one widens."""
     do, dn = old.get("dependentRequired") or {}, new.get("dependentRequired") or {}
     if do == dn:
@@ -539,12 +539,12 @@ def dependent_required(old: Schema, new: Schema) -> Iterator[Finding]:
                         yield {k: x for k, x in {**base, name: v}.items() if k not in deps or k == name}
 
         effect = Effect.NARROWS if sn > so else Effect.WIDENS if sn < so else Effect.CHANGES
-        yield Finding(effect, f"dependentRequired[{name!r}] {sorted(so)} -> {sorted(sn)}", cands,
+        yield SchemaEdit(effect, f"dependentRequired[{name!r}] {sorted(so)} -> {sorted(sn)}", cands,
                       "dependentRequired")
 
 
 def _combinator_rule(kw: str) -> None:
-    def rule(old: Schema, new: Schema) -> Iterator[Finding]:
+    def rule(old: Schema, new: Schema) -> Iterator[SchemaEdit]:
         bo, bn = old.get(kw), new.get(kw)
         if bo == bn:
             return
@@ -571,9 +571,9 @@ def _combinator_rule(kw: str) -> None:
             more = Effect.WIDENS if kw == "anyOf" else Effect.CHANGES  # a new oneOf branch may overlap
             less = Effect.NARROWS
         if lo is None:
-            yield Finding(Effect.NARROWS, f"{kw} added ({len(ln or [])} branches)", cands, kw)
+            yield SchemaEdit(Effect.NARROWS, f"{kw} added ({len(ln or [])} branches)", cands, kw)
         elif ln is None:
-            yield Finding(Effect.WIDENS, f"{kw} removed", cands, kw)
+            yield SchemaEdit(Effect.WIDENS, f"{kw} removed", cands, kw)
         else:
             removed = [b for b in lo if b not in ln]
             added = [b for b in ln if b not in lo]
@@ -583,7 +583,7 @@ def _combinator_rule(kw: str) -> None:
                 effect = less
             else:
                 effect = more
-            yield Finding(effect, f"{kw}: {len(removed)} branch(es) removed, {len(added)} added", cands, kw)
+            yield SchemaEdit(effect, f"{kw}: {len(removed)} branch(es) removed, {len(added)} added", cands, kw)
 
     rule.__doc__ = f"``{kw}`` (Core 10.2.1): branches added or removed; same arity is recursed pairwise."
     rule.__name__ = kw
@@ -600,7 +600,7 @@ _combinator_rule("allOf")
 
 
 def _opaque_rule(name: str, keywords: tuple[str, ...], added: Effect, removed: Effect, doc: str) -> None:
-    def rule(old: Schema, new: Schema) -> Iterator[Finding]:
+    def rule(old: Schema, new: Schema) -> Iterator[SchemaEdit]:
         for kw in keywords:
             if old.get(kw) == new.get(kw):
                 continue
@@ -610,7 +610,7 @@ def _opaque_rule(name: str, keywords: tuple[str, ...], added: Effect, removed: E
                 yield from _with(kit, a)
                 yield from kit.draws(a, 20)
 
-            yield Finding(effect, f"{kw} {'added' if kw not in old else 'removed' if kw not in new else 'changed'}",
+            yield SchemaEdit(effect, f"{kw} {'added' if kw not in old else 'removed' if kw not in new else 'changed'}",
                           cands, kw)
 
     rule.__doc__ = doc
@@ -630,23 +630,23 @@ _opaque_rule("unevaluated", ("unevaluatedProperties", "unevaluatedItems"), Effec
 
 
 @schema_rule("annotation", *sorted(ANNOTATION_KEYWORDS - {"$defs", "definitions"}))
-def annotation(old: Schema, new: Schema) -> Iterator[Finding]:
+def annotation(old: Schema, new: Schema) -> Iterator[SchemaEdit]:
     """Annotations (Validation 9: title, description, default, examples, deprecated, readOnly, writeOnly).
 
     They validate nothing, but a model reads descriptions and a server applies defaults: a human reviews.
     """
     for kw in ("title", "description", "default", "examples", "deprecated", "readOnly", "writeOnly", "$schema"):
         if old.get(kw) != new.get(kw):
-            yield Finding(Effect.NEUTRAL, f"{kw} changed: {_short(old.get(kw))} -> {_short(new.get(kw))}",
+            yield SchemaEdit(Effect.NEUTRAL, f"{kw} changed: {_short(old.get(kw))} -> {_short(new.get(kw))}",
                           None, kw, review=True)
 
 
 @schema_rule("unknown-keyword")
-def unknown_keyword(old: Schema, new: Schema) -> Iterator[Finding]:
+def unknown_keyword(old: Schema, new: Schema) -> Iterator[SchemaEdit]:
     """Any keyword no other rule guards (vendor keywords, older drafts): changed -> review, never dropped."""
     for kw in sorted((set(old) | set(new)) - HANDLED_KEYWORDS - ENGINE_KEYWORDS):
         if old.get(kw) != new.get(kw):
-            yield Finding(Effect.NEUTRAL, f"keyword {kw!r} changed and feeler has no rule for it", None, kw,
+            yield SchemaEdit(Effect.NEUTRAL, f"keyword {kw!r} changed and feeler has no rule for it", None, kw,
                           review=True)
 
 

@@ -228,6 +228,12 @@ def properties(ts: ToolSchema, site: Site, props: dict) -> Iterator[tuple[str, A
 
 
 #: keyword -> boundary producer.
+#: Keywords whose boundary go cases sit exactly on a promised limit (where off-by-one defects live).
+BOUND_KEYWORDS = frozenset({
+    "minimum", "maximum", "exclusiveMinimum", "exclusiveMaximum", "multipleOf",
+    "minLength", "maxLength", "minItems", "maxItems", "minProperties", "maxProperties",
+})
+
 BOUNDARIES: dict[str, Boundary] = {
     "minimum": minimum,
     "maximum": maximum,

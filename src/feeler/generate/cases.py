@@ -18,7 +18,7 @@ from typing import Any
 
 from hypothesis import strategies as st
 
-from feeler._json import canonical_dumps, json_path
+from feeler._json import canonical_dumps, json_path, to_pointer
 from feeler.errors import SchemaProblem
 from feeler.generate._build import Unbuildable, build, example
 from feeler.generate._fast import fast_values
@@ -41,7 +41,9 @@ class Case:
     :param schema_path: the keyword's location in the schema document, a JSON Pointer (``/properties/a/minimum``).
     :param arguments: the whole arguments value.
     :param error: the oracle's message for a no-go case; ``None`` for go cases.
-    :param origin: ``"boundary"``, ``"hypothesis"`` or ``"mutation"``.
+    :param source: where the values came from: ``"schema"`` (boundaries, ``default``/``examples``/``const``,
+        and the one broken keyword of a no-go case), ``"known"`` (given by the user), ``"learned"`` (from
+        answers), ``"chain"`` (an earlier call in a sequence) or ``"sampled"`` (the random sampler).
     :param note: a short human description (``"minimum 3"``, ``"smallest object: ..."``).
     """
 
@@ -51,17 +53,35 @@ class Case:
     schema_path: str
     arguments: Any
     error: str | None = None
-    origin: str = "boundary"
+    source: str = "schema"
     note: str = ""
+
+    @property
+    def keyword_location(self) -> str:
+        """The keyword's location in the schema, a JSON Pointer (``""`` for a sampled case)."""
+        return self.schema_path
+
+    @property
+    def instance_location(self) -> str:
+        """Where in the arguments, a JSON Pointer (``""`` for the root)."""
+        return to_pointer(self.path) or ""
+
+    @property
+    def is_boundary(self) -> bool:
+        """A go case that sits exactly on a bound the schema names (``minimum``, ``maxLength``...)."""
+        from feeler.generate.boundaries import BOUND_KEYWORDS
+
+        # source "known"/"learned": a boundary case with world values put in elsewhere (feeler.world.apply)
+        return self.kind == "go" and self.source != "sampled" and self.keyword in BOUND_KEYWORDS
 
     def as_json(self) -> dict[str, Any]:
         """The case as a JSON object (the line format of ``feeler cases``)."""
         return {
             "kind": self.kind,
             "keyword": self.keyword,
-            "path": self.path,
-            "schema_path": self.schema_path,
-            "origin": self.origin,
+            "keywordLocation": self.keyword_location,
+            "instanceLocation": self.instance_location,
+            "source": self.source,
             "note": self.note,
             "error": self.error,
             "arguments": self.arguments,
@@ -160,7 +180,7 @@ def go_cases(schema: Any, *, draws: int = 0, seed: int = 0, tally: Tally | None 
     """Explicit boundary go cases for *schema* (each bound hit exactly), then *draws* drawn go cases.
 
     :param schema: a JSON Schema or a :class:`ToolSchema`.
-    :param draws: how many drawn go cases to add (:func:`fast_go_cases`; ``origin="hypothesis"``, ``keyword=None``).
+    :param draws: how many drawn go cases to add (:func:`fast_go_cases`; ``source="sampled"``, ``keyword=None``).
     :param seed: the seed for the drawn cases; boundary cases do not depend on it.
     :param tally: filled with the number of candidates the oracle refused.
     :raises SchemaProblem: the schema cannot be used (see :class:`ToolSchema`).
@@ -190,13 +210,13 @@ def go_cases(schema: Any, *, draws: int = 0, seed: int = 0, tally: Tally | None 
                 if not ts.is_valid(arguments):
                     tally.refuted_go += 1
                     continue
-                out.append(Case("go", keyword, json_path(site.path), f"{site.pointer}/{keyword}", arguments, None, "boundary", note))
+                out.append(Case("go", keyword, json_path(site.path), f"{site.pointer}/{keyword}", arguments, None, "schema", note))
     out.extend(drawn_cases(ts, draws, seed=seed))
     return out
 
 
 def drawn_cases(schema: Any, count: int, *, seed: int = 0) -> list[Case]:
-    """*count* drawn go cases under *seed* (deterministic), ``origin="hypothesis"``; see :func:`fast_go_cases`."""
+    """*count* drawn go cases under *seed* (deterministic), ``source="sampled"``; see :func:`fast_go_cases`."""
     return fast_go_cases(schema, count, seed=seed)
 
 
@@ -229,8 +249,8 @@ def fast_go_cases(schema: Any, count: int, *, seed: int = 0) -> list[Case]:
         )
     # Short of *count* only when both samplers struggled: repeat the values found, in order.
     values = [values[i % len(values)] for i in range(count)]
-    # origin "hypothesis" names the drawn (non-boundary) go cases, whichever sampler made them.
-    return [Case("go", None, "$", "", value, None, "hypothesis", "drawn") for value in values]
+    # source "sampled" names the sampled (non-boundary) go cases, whichever sampler made them.
+    return [Case("go", None, "$", "", value, None, "sampled", "sampled") for value in values]
 
 
 def nogo_cases(
@@ -293,7 +313,7 @@ def _prove(ts: ToolSchema, site: Site, keyword: str, arguments: Any) -> tuple[Ca
             and tuple(error.absolute_schema_path) == want_schema_path
         ):
             return (
-                Case("no-go", keyword, json_path(site.path), f"{site.pointer}/{keyword}", arguments, error.message, "mutation"),
+                Case("no-go", keyword, json_path(site.path), f"{site.pointer}/{keyword}", arguments, error.message, "schema"),
                 len(errors),
             )
     return None, len(errors)

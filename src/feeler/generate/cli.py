@@ -12,8 +12,9 @@ from typing import Any
 import click
 
 from feeler._read import read_json
+from feeler.cli_options import apply_renamed, renamed_option
 from feeler.errors import SchemaProblem, UsageError
-from feeler.generate._schema import compile_schema
+from feeler.generate._schema import ToolSchema, compile_schema
 from feeler.generate.cases import Tally, go_cases, nogo_cases
 
 __all__ = ["cases", "load_schema"]
@@ -37,25 +38,31 @@ def load_schema(path: str) -> tuple[Any, str | None]:
 
 @click.command("cases")
 @click.argument("schema_file", type=click.Path(dir_okay=False, allow_dash=False))
-@click.option("--seed", type=int, default=0, show_default=True, help="Seed for the drawn go cases.")
-@click.option("--go", "draws", type=click.IntRange(min=0), default=0, show_default=True,
-              help="How many drawn (hypothesis) go cases to add after the boundary cases.")  # fmt: skip
+@click.option("--sample-seed", type=int, default=0, show_default=True, help="Seed of the sampled go cases.")
+@click.option("--samples", type=click.IntRange(min=0), default=0, show_default=True,
+              help="How many sampled go cases to add after the boundary cases.")  # fmt: skip
+@renamed_option("--seed", "--sample-seed", "sample_seed", type=int)
+@renamed_option("--go", "--samples", "samples", type=click.IntRange(min=0))
 @click.option("--kind", type=click.Choice(["all", "go", "no-go"]), default="all", show_default=True,
               help="Print only go or only no-go cases.")  # fmt: skip
-def cases(schema_file: str, seed: int, draws: int, kind: str) -> None:
+def cases(schema_file: str, sample_seed: int, samples: int, kind: str) -> None:
     """Print the go and no-go cases feeler would send for SCHEMA_FILE, one JSON object a line.
 
     SCHEMA_FILE holds a JSON Schema, or a tool object with an ``inputSchema``. Each line has
-    ``kind`` (go or no-go), ``keyword``, ``path``, ``schema_path``, ``origin``, ``note``, ``error``
-    and ``arguments``. Every case was checked with jsonschema before it is printed.
+    ``kind`` (go or no-go), ``keyword``, ``keywordLocation`` and ``instanceLocation`` (JSON Pointers),
+    ``source``, ``note``, ``error`` and ``arguments``. Every case was checked with jsonschema before it
+    is printed.
     """
+    renamed = apply_renamed({"sample_seed": None, "samples": None})
+    sample_seed = renamed["sample_seed"] if renamed["sample_seed"] is not None else sample_seed
+    samples = renamed["samples"] if renamed["samples"] is not None else samples
     schema, name = load_schema(schema_file)
     try:
         ts = compile_schema(schema, name=name)
         tally = Tally()
         found = []
         if kind in ("all", "go"):
-            found += go_cases(ts, draws=draws, seed=seed, tally=tally)
+            found += go_cases(ts, draws=samples, seed=sample_seed, tally=tally)
         if kind in ("all", "no-go"):
             found += nogo_cases(ts, tally=tally)
     except SchemaProblem as exc:

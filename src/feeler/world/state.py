@@ -83,7 +83,7 @@ class World:
                 continue
             known = list(stats.world.entered[:_BASES_PER_TOOL])
             if not known:
-                for pick, case in enumerate(go_cases(tool.input_schema, seed=runner.options.seed)[:_BASES_PER_TOOL]):
+                for pick, case in enumerate(go_cases(tool.input_schema, seed=runner.options.sample_seed)[:_BASES_PER_TOOL]):
                     offered = with_values(tool.input_schema, tool.name, case, self.pool, pick=pick, sources=CASE_SOURCES)
                     if offered.arguments not in known:
                         known.append(offered.arguments)
