@@ -285,7 +285,8 @@ def _finding_data(finding: Any) -> dict[str, Any]:
     return {f.name: getattr(finding, f.name) for f in dataclasses.fields(finding)}
 
 
-_STATS_SKIP = ("cases", "coverage", "durations")
+#: not kept across a resume: cases and bases are remade, the world summary starts again each run
+_STATS_SKIP = ("cases", "coverage", "durations", "world", "bases")
 
 
 def _stats_data(stats: Any) -> dict[str, Any]:
