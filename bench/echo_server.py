@@ -10,6 +10,7 @@ from __future__ import annotations
 
 import json
 import sys
+from collections.abc import Callable
 
 KNOWN = ("2024-11-05", "2025-03-26", "2025-06-18", "2025-11-25")
 TOOL = {
@@ -66,7 +67,8 @@ def answer(message: dict) -> dict | None:
     return {"jsonrpc": "2.0", "id": rid, "result": result}
 
 
-def main() -> None:
+def main(answer: Callable[[dict], dict | None] = answer) -> None:
+    """Serve stdin to stdout with *answer* (bench/world_server.py reuses this loop)."""
     out = sys.stdout
     for line in sys.stdin:
         if not line.strip():

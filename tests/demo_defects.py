@@ -6,7 +6,9 @@ apart from the destructive tool that is skipped unless opted in).
 
 Each entry gives the tool, a concrete triggering call, what the server does, and the check that
 should report it. ``arguments`` is a go case (valid under the published ``inputSchema`` by
-``jsonschema``) except for ``missing_validation``, which is a no-go case the server accepts.
+``jsonschema``) except for ``missing_validation``, which is a no-go case the server accepts. The demo
+has a world (bookings): ``needs`` lists the calls to make first, in order, so that the booking the
+triggering call names exists; a ``chain`` defect is reachable only that way.
 """
 
 from __future__ import annotations
@@ -23,7 +25,8 @@ class Defect:
 
     :param key: a short stable name.
     :param tool: the tool that carries it.
-    :param case_kind: ``"go"`` (schema-valid arguments) or ``"no-go"`` (schema-invalid arguments).
+    :param case_kind: ``"go"`` (schema-valid arguments), ``"no-go"`` (schema-invalid arguments) or
+        ``"chain"`` (schema-valid arguments naming what an earlier call returned).
     :param keyword: the JSON Schema keyword involved (``None`` when none is).
     :param path: the instance location of the argument involved, a JSON Pointer (RFC 6901; ``""`` is the
         arguments object).
@@ -31,6 +34,7 @@ class Defect:
     :param behaviour: what the server does.
     :param expected_check: the check (issue 4 wording) that should report it.
     :param reference: where the rule it breaks is written.
+    :param needs: ``(tool, arguments)`` calls to make first, in order.
     """
 
     key: str
@@ -42,9 +46,14 @@ class Defect:
     behaviour: str
     expected_check: str
     reference: str
+    needs: tuple[tuple[str, dict[str, Any]], ...] = ()
 
 
 _CONTACT = {"name": "Ada Quill", "email": "ada@example.org"}
+_STAY = {"vessel_name": "Tern", "arrival": "2026-05-01", "nights": 3}
+#: BK-423419 (no phone) and BK-823387 (with a phone) are the references book_berth answers for these
+_BOOKED = ("book_berth", {"berth_code": "N-01", **_STAY, "contact": _CONTACT})
+_BOOKED_WITH_PHONE = ("book_berth", {"berth_code": "N-02", **_STAY, "contact": {**_CONTACT, "phone": "+44 1632 960123"}})
 
 DEFECTS: tuple[Defect, ...] = (
     Defect(
@@ -65,11 +74,13 @@ DEFECTS: tuple[Defect, ...] = (
         case_kind="no-go",
         keyword="pattern",
         path="/booking_ref",
-        arguments={"booking_ref": "nope", "services": [{"service": "fuel", "quantity": 2}]},
+        arguments={"booking_ref": "BK-423419!", "services": [{"service": "fuel", "quantity": 2}]},
         behaviour='inputSchema says booking_ref matches "^BK-[0-9]{6}$"; the pattern is published but never '
-        "enforced, so any string is accepted with a success result.",
+        "enforced: a near miss of an existing reference (a stray character, lower case, a leading space) "
+        "finds the booking by its six digits and gets a success result; an unknown reference is refused.",
         expected_check="no-go case rejected cleanly (success answer on a no-go case)",
         reference="JSON Schema 2020-12 Validation 6.3.3 (pattern); MCP 2025-11-25 server/tools (input validation)",
+        needs=(_BOOKED,),
     ),
     Defect(
         key="unicode_crash_leaks_traceback",
@@ -102,6 +113,23 @@ DEFECTS: tuple[Defect, ...] = (
         "(it carries discounted_total_cents instead); without it the output conforms.",
         expected_check="structuredContent validates against outputSchema",
         reference="MCP 2025-06-18 server/tools (Output Schema: servers MUST provide conforming results)",
+    ),
+)
+
+DEFECTS += (
+    Defect(
+        key="booking_filed_under_phone",
+        tool="order_services",
+        case_kind="chain",
+        keyword=None,
+        path="/booking_ref",
+        arguments={"booking_ref": "BK-823387", "services": [{"service": "fresh_water", "quantity": 1}]},
+        behaviour="book_berth answers with a reference made from the contact's email, but files a booking "
+        "whose contact has a phone under a reference made from the phone; order_services then refuses the "
+        'reference book_berth just returned ("no booking BK-..."), with isError. Without a phone it works.',
+        expected_check="read_your_writes (chain: book_berth, then order_services with the returned booking_ref)",
+        reference="common practice (read-your-writes); MCP 2025-11-25 server/tools (isError results)",
+        needs=(_BOOKED_WITH_PHONE,),
     ),
 )
 

@@ -230,7 +230,9 @@ def test_demo_planted_defect_reproduces(demo_wire: tuple[Wire, dict[str, Any]], 
     schema = tools[defect.tool]["inputSchema"]
     checker = Draft202012Validator(schema, format_checker=Draft202012Validator.FORMAT_CHECKER)
     # jsonschema as the reference validator: go cases are valid, the no-go case is invalid.
-    assert checker.is_valid(defect.arguments) is (defect.case_kind == "go")
+    assert checker.is_valid(defect.arguments) is (defect.case_kind in ("go", "chain"))
+    for tool, arguments in defect.needs:  # the bookings the triggering call names
+        assert tool_result(wire.call("tools/call", {"name": tool, "arguments": arguments})).get("isError") is not True
     answer = wire.call("tools/call", {"name": defect.tool, "arguments": defect.arguments})
     if defect.key == "off_by_one_at_maximum":
         assert tool_result(answer).get("isError") is True
@@ -238,6 +240,17 @@ def test_demo_planted_defect_reproduces(demo_wire: tuple[Wire, dict[str, Any]], 
         assert tool_result(wire.call("tools/call", {"name": defect.tool, "arguments": below})).get("isError") is not True
     elif defect.key == "missing_validation_pattern":
         assert tool_result(answer).get("isError") is not True
+        unknown = {**defect.arguments, "booking_ref": "nope"}
+        assert tool_result(wire.call("tools/call", {"name": defect.tool, "arguments": unknown})).get("isError") is True
+    elif defect.key == "booking_filed_under_phone":
+        # The reference book_berth just returned (structuredContent.booking_ref) is refused with isError.
+        booked = tool_result(wire.call("tools/call", {"name": defect.needs[0][0], "arguments": defect.needs[0][1]}))
+        assert booked["structuredContent"]["booking_ref"] == defect.arguments["booking_ref"]
+        assert tool_result(answer).get("isError") is True
+        tool, without_phone = "book_berth", {**defect.needs[0][1], "contact": {"name": "Ada Quill", "email": "ada@example.org"}}
+        ref = tool_result(wire.call("tools/call", {"name": tool, "arguments": without_phone}))["structuredContent"]["booking_ref"]
+        ordered = {**defect.arguments, "booking_ref": ref}
+        assert tool_result(wire.call("tools/call", {"name": defect.tool, "arguments": ordered})).get("isError") is not True
     elif defect.key == "unicode_crash_leaks_traceback":
         # JSON-RPC 2.0 section 5.1: -32603 Internal error, here with a Python traceback in data.
         assert answer["error"]["code"] == -32603
@@ -330,6 +343,51 @@ def test_crashes_on_call(tmp_path: Path) -> None:
         wire.request("tools/call", {"name": "echo", "arguments": {"text": "hi"}})
         assert wire.wait() == 3
         assert "fatal:" in wire.stderr()
+
+
+def test_refuses_other_roots(tmp_path: Path) -> None:
+    with started(tmp_path, script("refuses_other_roots")) as wire:
+        wire.handshake()
+        assert {t["name"] for t in tool_result(wire.call("tools/list"))["tools"]} == {"list_entries", "read_entry", "count_entries"}
+
+        def call(arguments: dict[str, Any]) -> dict[str, Any]:
+            return tool_result(wire.call("tools/call", {"name": "list_entries", "arguments": arguments}))
+
+        # MCP 2025-11-25 server/tools "Error Handling": refusals are isError results.
+        assert call({"root": "/elsewhere"})["isError"] is True
+        assert "isError" not in call({"root": "/srv/orchard", "depth": 2})
+        # The planted defect: "3" is not an integer (JSON Schema 2020-12 validation 6.1.1), yet it is accepted.
+        assert "isError" not in call({"root": "/srv/orchard", "depth": "3"})
+        assert call({"root": "/srv/orchard", "depth": True})["isError"] is True
+
+
+def test_reads_under_listed_roots(tmp_path: Path) -> None:
+    with started(tmp_path, script("reads_under_listed_roots")) as wire:
+        wire.handshake()
+
+        def call(name: str, arguments: dict[str, Any]) -> dict[str, Any]:
+            return tool_result(wire.call("tools/call", {"name": name, "arguments": arguments}))
+
+        roots = call("list_roots", {})["structuredContent"]["roots"]
+        # MCP 2025-11-25 server/tools "Error Handling": refusals are isError results.
+        assert call("read_text", {"path": "/etc/hosts"})["isError"] is True
+        assert "isError" not in call("read_text", {"path": roots[0]})
+        assert call("stat_path", {"path": roots[1] + "/tide.txt"})["structuredContent"]["kind"] == "file"
+
+
+def test_records_lost_on_update(tmp_path: Path) -> None:
+    with started(tmp_path, script("records_lost_on_update")) as wire:
+        wire.handshake()
+
+        def call(name: str, arguments: dict[str, Any]) -> dict[str, Any]:
+            return tool_result(wire.call("tools/call", {"name": name, "arguments": arguments}))
+
+        made = call("create_record", {"title": "Tern"})["structuredContent"]
+        assert call("read_record", {"record_id": made["id"]})["structuredContent"] == made  # create then read works
+        updated = call("update_record", {"record_id": made["id"], "title": "Heron"})["structuredContent"]
+        assert updated["id"] == made["id"] and updated["version"] == 2
+        # The planted defect: the id update_record just returned is refused (isError, MCP server/tools).
+        assert call("read_record", {"record_id": updated["id"]})["isError"] is True
 
 
 def test_hangs_on_call(tmp_path: Path) -> None:

@@ -60,6 +60,9 @@ _KEYS: dict[str, tuple[tuple[type, ...], str]] = {
     "allowed_hosts": ((list,), "a list of host names descriptions may link to"),
     "values": ((dict,), "a table of [TOOL:]PROPERTY (or $.path) = value (a list: one of these)"),
     "values_hook": ((str,), "\"package.module:function\" returning hypothesis strategies per property"),
+    "learn": ((bool,), "true or false (learn values from answers; a discovery pass first)"),
+    "chain_runs": ((int,), "a whole number of chain runs (0: no chains)"),
+    "chain_steps": ((int,), "a whole number: the most calls in one chain"),
 }
 
 #: Old key -> its new name; read for one release with a notice (``profile`` values are mapped too).

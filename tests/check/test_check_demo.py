@@ -25,7 +25,8 @@ DEMO = "feeler.demo.server:server"
 EXPECTED: dict[str, list[tuple[Any, ...]]] = {
     # JSON Schema 2020-12 validation 6.2.2: "maximum": 14 allows 14; the demo refuses it with isError.
     "off_by_one_at_maximum": [("bounds_honoured", "book_berth", "go", None, None, "bound:maximum")],
-    # JSON Schema 2020-12 validation 6.3.3 (pattern): "nope" breaks ^BK-[0-9]{6}$ and gets a success answer.
+    # JSON Schema 2020-12 validation 6.3.3 (pattern): a near miss of a booked reference breaks
+    # ^BK-[0-9]{6}$ and gets a success answer (the booking comes from book_berth: a learned value).
     "missing_validation_pattern": [("nogo_stops", "order_services", "no-go", "pattern", "/booking_ref", "accepted-invalid")],
     # JSON-RPC 2.0 section 5.1 (-32603 on valid arguments), an unhandled exception, and a traceback in
     # error.data (MCP 2025-11-25 server/tools, Security: sanitize errors).
@@ -37,6 +38,9 @@ EXPECTED: dict[str, list[tuple[Any, ...]]] = {
     ],
     # MCP 2025-06-18 server/tools (Output Schema): structuredContent lacks the required total_cents.
     "structured_output_breaks_schema": [("output_schema", "quote_fee", "go", None, None, "invalid:required")],
+    # A chain (hypothesis stateful testing): the booking_ref book_berth just returned is refused by
+    # order_services (read-your-writes, common practice; isError per MCP 2025-11-25 server/tools).
+    "booking_filed_under_phone": [("read_your_writes", "order_services", "chain", None, None, "own-identifier-stopped")],
 }
 
 #: Warnings the official SDK's server behaviour earns, all tolerated (PROTOCOL.md sections 4, 5.4, 11):

@@ -22,6 +22,7 @@ EXPECTED = {
     "missing_validation_pattern": ("order_services[no-go]", "nogo_stops"),
     "unicode_crash_leaks_traceback": ("register_vessel[go]", "no_leaks"),
     "structured_output_breaks_schema": ("quote_fee[go]", "output_schema"),
+    "booking_filed_under_phone": ("chains", "read_your_writes"),
 }
 
 

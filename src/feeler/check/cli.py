@@ -65,6 +65,9 @@ def _list_checks(ctx: click.Context, _param: click.Parameter, value: bool) -> No
 @renamed_option("--seed", "--sample-seed", "sample_seed", type=int)
 @click.option("--value", "values", multiple=True, metavar="[TOOL:]PROPERTY=JSON",
               help="A value from the server's world for a property or $.path (repeatable; a JSON list: one of these).")
+@click.option("--no-learn", is_flag=True, help="Do not learn values from answers (and skip the discovery pass).")
+@click.option("--chain-runs", type=click.IntRange(min=0), default=None, help="Call chains to run (0: none) [20].")
+@click.option("--chain-steps", type=click.IntRange(min=1), default=None, help="The most calls in one chain [8].")
 @click.option("--include", multiple=True, metavar="PATTERN", help="Only tools matching this glob (repeatable).")
 @click.option("--exclude", multiple=True, metavar="PATTERN", help="Skip tools matching this glob (repeatable).")
 @click.option("--allow-destructive", is_flag=True, help="Also call tools annotated destructiveHint: true.")
@@ -141,6 +144,9 @@ def check(**kwargs: Any) -> int:
         dry_run=kwargs["dry_run"],
         replay_dir=kwargs["replay_dir"] or config.get("replay_dir", ".feeler/replays"),
         redactor=redactor_for(opts.target, config.values),
+        learn=not kwargs["no_learn"] and bool(config.get("learn", True)),
+        chain_runs=kwargs["chain_runs"] if kwargs["chain_runs"] is not None else config.get("chain_runs", 20),
+        chain_steps=kwargs["chain_steps"] if kwargs["chain_steps"] is not None else config.get("chain_steps", 8),
     )
     progress = (lambda line: click.echo(line, err=True)) if sys.stderr.isatty() or fmt == "text" else None
     if every:

@@ -144,6 +144,8 @@ def replay(data: dict[str, Any], *, timeout: float = 30.0, target: Target | None
             case = probes.get(probe_name, case)
         ctx_kind = "alive" if finding.get("check") == "server_alive" else kind
         ctx = CallContext(ctx_kind, tool, str(session.revision), str(session.era), CheckSettings(secrets=redactor_for(tgt).values), case=case)
+        if finding.get("check") == "bounds_honoured":
+            ctx.base = "entered"  # the base (just inside the bound) entered when the finding was made
         answer = None
         try:
             expect = getattr(case, "expects_answer", True)

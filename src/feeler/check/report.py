@@ -45,6 +45,9 @@ def report_text(report: RunReport, *, verbose: bool = False) -> str:
             )
             if stats.go_calls or stats.nogo_calls:
                 lines.append(f"  {stats.world.summary_text()}")
+                if stats.learned_from:
+                    top = sorted(stats.learned_from.items(), key=lambda kv: -kv[1])[:3]
+                    lines.append("  learned from: " + ", ".join(f"{where} ({n})" for where, n in top))
             if stats.nogo_calls:
                 lines.append(f"  stops no-go cases with {stats.rejection_style(report.revision)}")
             if stats.coverage:
@@ -126,6 +129,7 @@ def report_json(report: RunReport) -> str:
                 "schemaProblem": s.schema_problem,
                 "coverage": s.coverage_summary() if s.coverage else None,
                 **s.world.summary(),
+                "learnedFrom": dict(sorted(s.learned_from.items())),
             }
             for name, s in sorted(report.tools.items())
         },

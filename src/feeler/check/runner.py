@@ -274,7 +274,10 @@ class Runner:
         try:
             self.open()
             assert self.report.catalog is not None
-            for tool in self.tools():
+            tools = self.tools()
+            for tool in tools:
+                self._prepare(tool)  # known values are checked before any call: a bad one stops the run at once
+            for tool in tools:
                 self.run_tool(tool)
             self.run_chains()
         finally:
@@ -381,6 +384,13 @@ class Runner:
         except SchemaProblem as exc:
             stats.schema_problem = str(exc)  # the schema_usable check reports it; no cases can be made
         self._evaluate(CallContext("catalog", tool, self.revision, self.era, self.settings))
+
+    def _prepare(self, tool: Tool) -> None:
+        if self.skip_reason(tool) is None:
+            try:
+                self._bases(tool, self.stats(tool))
+            except SchemaProblem:
+                pass  # the catalog checks report it when the tool's turn comes
 
     def _bases(self, tool: Tool, stats: ToolStats) -> list[Any]:
         from feeler.world.plan import prepare_tool

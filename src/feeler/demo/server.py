@@ -1,7 +1,8 @@
 """The bundled demo: the berth-booking office of Saltmarsh Quay, a small invented harbour.
 
 Skippers ask for a berth, a quote, shore services or a vessel registration; the office answers with
-bookings and notices. Two releases are served from the same code: ``server`` (the current release,
+bookings and notices. Its world is kept per server: shore services, extending and cancelling a stay
+need the reference of an existing booking. Two releases are served from the same code: ``server`` (the current release,
 1.4.0) and ``next_server`` (the next release, 1.5.0, with its own schema edits).
 """
 
@@ -10,6 +11,7 @@ from __future__ import annotations
 import copy
 import hashlib
 import json
+import re
 import traceback
 from typing import Annotated, Any, Literal
 
@@ -48,6 +50,32 @@ BERTHS: list[JsonObject] = [
 
 _RATE_CENTS = {"low": 180, "shoulder": 240, "high": 320}  # per metre and night
 _SERVICE_CENTS = {"fresh_water": 400, "shore_power": 650, "waste_pumpout": 900, "laundry": 1200, "fuel": 0}
+
+
+class Bookings:
+    """The office's ledger of bookings, keyed by booking reference (bounded: the oldest are archived)."""
+
+    LIMIT = 2000
+
+    def __init__(self) -> None:
+        self.ledger: dict[str, JsonObject] = {}
+
+    def file(self, key: str, booking: JsonObject) -> None:
+        self.ledger[key] = booking
+        while len(self.ledger) > self.LIMIT:
+            del self.ledger[next(iter(self.ledger))]
+
+    def find(self, booking_ref: str) -> JsonObject:
+        booking = self.ledger.get(booking_ref)
+        if booking is None:
+            raise ToolError(f"no booking {booking_ref}; book_berth gives the reference")
+        return booking
+
+
+def _on_form(text: str) -> str:
+    """A reference as read off a dockside form: only its six digits count."""
+    digits = re.search(r"[0-9]{6}", text)
+    return f"BK-{digits.group(0)}" if digits else text
 
 
 def _reference(*parts: object) -> str:
@@ -206,7 +234,7 @@ BOOK_BERTH_OUTPUT: JsonObject = {
 }
 
 
-def _book_berth(longest_stay: int) -> Any:
+def _book_berth(longest_stay: int, bookings: Bookings) -> Any:
     def book_berth(
         berth_code: str,
         vessel_name: str,
@@ -219,13 +247,15 @@ def _book_berth(longest_stay: int) -> Any:
         if not 1 <= nights < longest_stay:
             raise ToolError(f"nights must be between 1 and {longest_stay}")
         occupied = any(b["code"] == berth_code and b["occupied"] for b in BERTHS)
-        return {
+        booking = {
             "booking_ref": _reference(berth_code, vessel_name, arrival, nights, contact["email"]),
             "berth_code": berth_code,
             "arrival": arrival,
             "nights": nights,
             "status": "waitlisted" if occupied else "confirmed",
         }
+        bookings.file(_reference(berth_code, vessel_name, arrival, nights, contact.get("phone") or contact["email"]), booking)
+        return dict(booking)
 
     return book_berth
 
@@ -240,17 +270,22 @@ class ServiceLine(BaseModel):
     quantity: Annotated[int, Field(strict=True, ge=1, le=20, description="Units: litres x 100, kWh x 10, loads.")]
 
 
-def order_services(
-    booking_ref: Annotated[
-        str, Field(description="Booking reference, e.g. BK-004211.", json_schema_extra={"pattern": "^BK-[0-9]{6}$"})
-    ],
-    services: Annotated[list[ServiceLine], Field(min_length=1, max_length=5)],
-    deliver_by: Literal["morning", "afternoon", "evening"] | None = None,
-) -> str:
-    """Order shore services (water, power, pump-out, laundry, fuel) to a booked berth."""
-    summary = ", ".join(f"{line.quantity} x {line.service}" for line in services)
-    when = f" by {deliver_by}" if deliver_by else ""
-    return f"Order for {booking_ref}: {summary}{when}. The dock crew will call on VHF channel 12."
+def _order_services(bookings: Bookings) -> Any:
+    def order_services(
+        booking_ref: Annotated[
+            str, Field(description="Booking reference, e.g. BK-004211.", json_schema_extra={"pattern": "^BK-[0-9]{6}$"})
+        ],
+        services: Annotated[list[ServiceLine], Field(min_length=1, max_length=5)],
+        deliver_by: Literal["morning", "afternoon", "evening"] | None = None,
+    ) -> str:
+        """Order shore services (water, power, pump-out, laundry, fuel) to a booked berth."""
+        reference = _on_form(booking_ref)
+        booking = bookings.find(reference)
+        summary = ", ".join(f"{line.quantity} x {line.service}" for line in services)
+        when = f" by {deliver_by}" if deliver_by else ""
+        return f"Order for {reference} at {booking['berth_code']}: {summary}{when}. The dock crew will call on VHF channel 12."
+
+    return order_services
 
 
 # --- register_vessel --------------------------------------------------------------------------------
@@ -326,9 +361,14 @@ CANCEL_BOOKING_OUTPUT: JsonObject = {
 }
 
 
-def cancel_booking(booking_ref: str, reason: str, note: str | None = None) -> JsonObject:
-    refund = 0 if reason == "duplicate" else int(booking_ref[-3:]) * 10
-    return {"booking_ref": booking_ref, "cancelled": True, "refund_cents": refund}
+def _cancel_booking(bookings: Bookings) -> Any:
+    def cancel_booking(booking_ref: str, reason: str, note: str | None = None) -> JsonObject:
+        bookings.find(booking_ref)
+        del bookings.ledger[booking_ref]
+        refund = 0 if reason == "duplicate" else int(booking_ref[-3:]) * 10
+        return {"booking_ref": booking_ref, "cancelled": True, "refund_cents": refund}
+
+    return cancel_booking
 
 
 # --- extend_stay (next release) ---------------------------------------------------------------------
@@ -341,8 +381,12 @@ EXTEND_STAY_INPUT: JsonObject = {
 }
 
 
-def extend_stay(booking_ref: str, extra_nights: int) -> str:
-    return f"{booking_ref} extended by {extra_nights} night(s), subject to berth availability."
+def _extend_stay(bookings: Bookings) -> Any:
+    def extend_stay(booking_ref: str, extra_nights: int) -> str:
+        booking = bookings.find(booking_ref)
+        return f"{booking_ref} extended by {extra_nights} night(s) to {booking['nights'] + extra_nights}, subject to berth availability."
+
+    return extend_stay
 
 
 # --- assembly ---------------------------------------------------------------------------------------
@@ -378,6 +422,7 @@ def build_server(release: str = "current") -> MCPServer:
         raise ValueError(f"release={release!r} is not one of {sorted(RELEASES)}")
     nxt = release == "next"
     edits = _next_release_schemas() if nxt else {}
+    bookings = Bookings()
     tools = [
         declared_tool(
             list_berths,
@@ -403,7 +448,7 @@ def build_server(release: str = "current") -> MCPServer:
             annotations=_hints(read_only=True, idempotent=True),
         ),
         declared_tool(
-            _book_berth(longest_stay=21 if nxt else 14),
+            _book_berth(21 if nxt else 14, bookings),
             name="book_berth",
             title="Book a berth",
             description="Book a berth for a vessel from an arrival day for a number of nights.",
@@ -418,7 +463,7 @@ def build_server(release: str = "current") -> MCPServer:
             input_schema=REGISTER_VESSEL_INPUT,
         ),
         declared_tool(
-            cancel_booking,
+            _cancel_booking(bookings),
             name="cancel_booking",
             title="Cancel a booking",
             description="Cancel a booking. The berth is released at once and cannot be restored.",
@@ -430,7 +475,7 @@ def build_server(release: str = "current") -> MCPServer:
     if nxt:
         tools.append(
             declared_tool(
-                extend_stay,
+                _extend_stay(bookings),
                 name="extend_stay",
                 title="Extend a stay",
                 description="Add nights to an existing booking.",
@@ -448,7 +493,7 @@ def build_server(release: str = "current") -> MCPServer:
     )
     if not nxt:
         mcp.add_tool(
-            order_services,
+            _order_services(bookings),
             name="order_services",
             title="Order shore services",
             annotations=_hints(read_only=False, destructive=False, idempotent=True),

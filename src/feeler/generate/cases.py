@@ -71,7 +71,8 @@ class Case:
         """A go case that sits exactly on a bound the schema names (``minimum``, ``maxLength``...)."""
         from feeler.generate.boundaries import BOUND_KEYWORDS
 
-        return self.kind == "go" and self.source == "schema" and self.keyword in BOUND_KEYWORDS
+        # source "known"/"learned": a boundary case with world values put in elsewhere (feeler.world.apply)
+        return self.kind == "go" and self.source != "sampled" and self.keyword in BOUND_KEYWORDS
 
     def as_json(self) -> dict[str, Any]:
         """The case as a JSON object (the line format of ``feeler cases``)."""

@@ -6,8 +6,9 @@ hypothesis documentation, "Stateful tests"). The machine is built from the catal
 * one **bundle** ``learned`` holds :class:`Token` values taken from successful answers (the values
   :func:`feeler.world.learn.answer_values` finds), each with the step and the place it came from, and the
   input slots of other tools it fits (related name, oracle-accepted in that tool's base arguments);
-* per tool, a **plain rule** calls it with one of its base arguments (go cases the server accepted earlier
-  in the run, else generated go cases with the pool's values put in);
+* per tool, a **plain rule** calls it with one of its base arguments: go cases the server accepted
+  earlier in the run (a tool that accepted none stays out of the chains, so a refusal in a chain is
+  never about arguments the tool refuses anyway);
 * per tool and identifier-like input slot (``record_id``, ``booking_ref``, ``path``...), a **chained
   rule** takes a token from the bundle that fits that slot and calls the tool with it.
 

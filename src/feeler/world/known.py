@@ -167,5 +167,5 @@ def check_known(schema: Any, tool: str, pool: ValuePool, instances: Iterable[Any
                     f"{value.provenance}: tool {tool!r}, property {slot.name!r} ({slot.pointer}): the value "
                     f"{value.value!r} breaks the schema keyword {keyword!r}"
                     + (f" ({error.message})" if error is not None else "")
-                    + f"; give a value the schema accepts, or limit it to other tools with TOOL:{slot.name}=..."
+                    + f"; give a value the schema accepts, or name the tool it is for (TOOL:{slot.name}=...)"
                 )

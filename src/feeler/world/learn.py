@@ -8,7 +8,8 @@ After a call the server accepted, :meth:`Learner.learn` reads the answer:
   (``/srv/data/notes``) and quoted names (``"Tern"``).
 
 Each value is filed in the shared :class:`~feeler.world.values.ValuePool` (source ``learned``) under
-every input of the catalog whose name is related (:func:`feeler.world.names.related`), with its
+every identifier-, path- or name-like input of the catalog (``record_id``, ``path``, ``vessel_name``;
+quantities, dates and choices are left to the samplers) whose name is related (:func:`feeler.world.names.related`), with its
 provenance: the tool and the place in the answer as a JSON Pointer (``list_roots
 /structuredContent/roots/0``). Text tokens go to inputs of their kind (identifiers, paths, names). The
 pool's bound per key bounds memory; :func:`feeler.world.apply.apply_values` keeps a value only where the
@@ -89,7 +90,10 @@ class Learner:
         for tool in tools:
             tool_nouns = nouns(tool.name)
             for name in dict.fromkeys(_property_names(tool.input_schema)):
-                self._inputs.append((tool.name, name, tool_nouns))
+                # Quantities, dates and choices are left to the samplers: only names the schema cannot
+                # fill by itself (identifiers, places, names) take learned values.
+                if identifier_like(name) or (words(name) and words(name)[-1] in _NAME_WORDS):
+                    self._inputs.append((tool.name, name, tool_nouns))
         self._by_kind = {
             "id": [(t, n) for t, n, _ in self._inputs if identifier_like(n) and words(n)[-1] in ID_WORDS],
             "path": [(t, n) for t, n, _ in self._inputs if words(n) and words(n)[-1] in PATH_WORDS],

@@ -44,11 +44,15 @@ def base_cases(tool: Any, pool: ValuePool, bases: list[Any]) -> list[Any]:
     from feeler.generate import Case
     from feeler.world.apply import with_values
 
-    out = []
+    from feeler._json import canonical_dumps
+
+    out, seen = [], set()
     for index, base in enumerate(bases):
         plain = Case("go", None, "$", "", base, None, "boundary", "fullest" if index == 0 else "smallest")
         case = with_values(tool.input_schema, tool.name, plain, pool)
-        if case is not plain:
+        text = canonical_dumps(case.arguments)
+        if case is not plain and text not in seen:  # the two bases may coincide once values are in
+            seen.add(text)
             out.append(case)
     return out
 

@@ -58,7 +58,7 @@ class World:
             if runner.skip_reason(tool) or not compile_schema(tool.input_schema).is_valid({}):
                 continue
             runner.progress(f"{tool.name}: discovery (no arguments)")
-            runner._call_case(tool, runner.stats(tool), Case("go", None, "$", "", {}, None, "boundary", "discovery"))
+            runner._call_case(tool, runner.stats(tool), Case("go", None, "$", "", {}, None, "schema", "discovery"))
 
     def after_call(self, tool: Tool, case: Any, ctx: CallContext, stats: Any) -> None:
         """Learn from a successful answer; count entered go cases by the provenance of learned values."""
@@ -81,12 +81,16 @@ class World:
             stats = runner.stats(tool)
             if runner.skip_reason(tool) or stats.schema_problem or stats.timeouts >= runner.options.max_timeouts_per_tool:
                 continue
-            known = list(stats.world.entered[:_BASES_PER_TOOL])
+            entered = stats.world.entered
+            known = list(entered[:: max(1, len(entered) // _BASES_PER_TOOL)][:_BASES_PER_TOOL])  # spread: variety
             if not known:
+                # No go case of this tool ran in this process (a pytest-xdist worker got only the chains
+                # item): call a few go cases first and keep those that entered as the bases.
                 for pick, case in enumerate(go_cases(tool.input_schema, seed=runner.options.sample_seed)[:_BASES_PER_TOOL]):
                     offered = with_values(tool.input_schema, tool.name, case, self.pool, pick=pick, sources=CASE_SOURCES)
-                    if offered.arguments not in known:
-                        known.append(offered.arguments)
+                    if not runner._call_case(tool, stats, offered):
+                        break
+                known = list(stats.world.entered[:_BASES_PER_TOOL])
             known.sort(key=lambda a: len(json.dumps(a, ensure_ascii=False, default=str)))  # shrinks to the smallest
             if known and isinstance(known[0], dict):
                 tools.append(tool)
@@ -99,7 +103,7 @@ class World:
             answers = [f.text for f in ex.frames if f.direction == "in"] if ex is not None else []
             red = runner.redactor  # secrets never reach a report or a replay file (feeler.redact)
             finding = Finding(
-                check=failure.check, severity=failure.problem.severity or "error", tool=last.tool, kind="chain",
+                check=failure.check, severity=failure.problem.severity or "error", tool=last.tool, kind="chain", source="chain",
                 message=red.text(failure.problem.message), error_class=failure.problem.error_class,
                 path=getattr(failure.ctx.case, "path", None) or None, arguments=red.json(last.arguments),
                 revision=runner.revision, request_text=red.text(ex.request_text) if ex is not None else None,
