@@ -144,10 +144,11 @@ def replay_command(file: str, timeout: float) -> int:
     click.echo(f"sent:     {outcome.request}")
     click.echo(f"answer:   {outcome.answer}")
     finding = data["finding"]
+    click.echo(f"finding:  [{finding.get('check')}] {finding.get('message')}")
     if outcome.reproduced:
-        click.echo(f"reproduced: [{finding.get('check')}] {outcome.messages[0] if outcome.messages else finding.get('message')}")
+        click.echo(f"reproduced: [{finding.get('check')}] {outcome.messages[0]}")
         return 1
-    click.echo(f"not reproduced: [{finding.get('check')}] {finding.get('message')}")
+    click.echo(f"not reproduced: [{finding.get('check')}] the answer no longer shows this problem")
     return 0
 
 

@@ -507,7 +507,7 @@ class Runner:
             return
         for finding in self.report.findings:
             if finding.request_text:
-                finding.replay = write_replay(self.options.replay_dir, self.target, finding)
+                finding.replay = write_replay(self.options.replay_dir, self.target, finding, self.settings)
 
 
 class _ToolAbandoned(Exception):
