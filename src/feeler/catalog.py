@@ -168,6 +168,19 @@ class Catalog:
         for key in ("tools", "prompts", "resources", "resourceTemplates"):
             if not isinstance(data.get(key, []), list):
                 raise UsageError(f"{source}: {key!r} must be a list")
+            for index, entry in enumerate(data.get(key, [])):
+                if not isinstance(entry, dict):
+                    raise UsageError(f"{source}: {key}[{index}] must be a JSON object, got {type(entry).__name__} "
+                                     f"{_short(entry)}; write the file again with `feeler catalog`")
+        for index, entry in enumerate(data.get("tools", [])):
+            if not isinstance(entry.get("name"), str):
+                raise UsageError(f"{source}: tools[{index}] has no string 'name'; write the file again with `feeler catalog`")
+        for key in ("server", "capabilities"):
+            if not isinstance(data.get(key) or {}, dict):
+                raise UsageError(f"{source}: {key!r} must be a JSON object")
+        versions = data.get("supportedVersions") or []
+        if not isinstance(versions, list) or not all(isinstance(v, str) for v in versions):
+            raise UsageError(f"{source}: 'supportedVersions' must be a list of strings")
         return cls(
             revision=data["protocolVersion"],
             era=data["era"],
@@ -188,3 +201,8 @@ class Catalog:
         except json.JSONDecodeError as exc:
             raise UsageError(f"{source}:{exc.lineno}:{exc.colno}: not valid JSON ({exc.msg})") from exc
         return cls.from_json(data, source=source)
+
+
+def _short(value: Any, limit: int = 60) -> str:
+    text = repr(value)
+    return text if len(text) <= limit else text[: limit - 3] + "..."

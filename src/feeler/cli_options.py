@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import math
 from collections.abc import Callable
 from typing import Any, TypeVar
 
@@ -12,9 +13,27 @@ from feeler.revisions import KNOWN_REVISIONS
 from feeler.target import Target
 from feeler.transport.base import DEFAULT_MAX_MESSAGE_BYTES
 
-__all__ = ["ConnectOptions", "apply_renamed", "connect_options", "renamed_option", "target_options"]
+__all__ = ["SECONDS", "ConnectOptions", "Seconds", "apply_renamed", "connect_options", "renamed_option", "target_options"]
 
 F = TypeVar("F", bound=Callable[..., Any])
+
+
+class Seconds(click.ParamType):
+    """A finite number of seconds of at least 0.1 (``nan`` and ``inf`` are refused: a wait must end)."""
+
+    name = "seconds"
+
+    def convert(self, value: Any, param: click.Parameter | None, ctx: click.Context | None) -> float:
+        try:
+            seconds = float(value)
+        except (TypeError, ValueError):
+            self.fail(f"{value!r} is not a number of seconds", param, ctx)
+        if not math.isfinite(seconds) or seconds < 0.1:
+            self.fail(f"{value!r} must be a finite number of seconds, at least 0.1", param, ctx)
+        return seconds
+
+
+SECONDS = Seconds()
 
 
 def _pairs(values: tuple[str, ...], sep: str, option: str) -> dict[str, str]:
@@ -100,7 +119,7 @@ def connect_options(func: F) -> F:
             help="Pin one protocol version instead of detecting the era and negotiating.",
         ),
         renamed_option("--revision", "--protocol-version", "protocol_version", type=click.Choice(KNOWN_REVISIONS)),
-        click.option("--timeout", type=click.FloatRange(min=0.1), default=30.0, show_default=True, help="Seconds to wait for each answer."),
+        click.option("--timeout", type=SECONDS, default=30.0, show_default=True, help="Seconds to wait for each answer."),
         click.option(
             "--max-message-bytes",
             type=click.IntRange(min=1024),

@@ -10,25 +10,25 @@ Example::
     depth = "standard"
     output_masks = ["$.structuredContent.issuedAt"]
 
+    [tool.feeler.values]            # values from the server's world (feeler.world.known)
+    root = "/srv/data"
+    "read_file:limit" = [1, 10]
+
 Unknown keys and wrong types are errors that name the key, the value and what is expected.
 """
 
 from __future__ import annotations
 
 import difflib
+import math
 import os
-import sys
 from collections.abc import Mapping
 from dataclasses import dataclass, field
 from typing import Any
 
+from feeler._read import read_toml
 from feeler.errors import UsageError
 from feeler.target import Target
-
-if sys.version_info >= (3, 11):
-    import tomllib
-else:  # pragma: no cover - Python 3.10
-    import tomli as tomllib
 
 __all__ = ["Config", "load_config"]
 
@@ -53,6 +53,13 @@ _KEYS: dict[str, tuple[tuple[type, ...], str]] = {
     "record_tools": ((list,), "a list of tool name patterns whose outputs are recorded (read-only tools always are)"),
     "record_per_tool": ((int,), "a whole number of pinned go cases recorded per tool"),
     "replay_dir": ((str,), "a folder"),
+    "secret_env": ((list,), "a list of environment variable names whose values are secrets"),
+    "secrets": ((list,), "a list of literal secret strings (prefer secret_env)"),
+    "max_tools": ((int,), "a whole number: more tools than this is a catalog_size warning"),
+    "max_catalog_tokens": ((int,), "a whole number: a larger token estimate is a catalog_size warning"),
+    "allowed_hosts": ((list,), "a list of host names descriptions may link to"),
+    "values": ((dict,), "a table of [TOOL:]PROPERTY (or $.path) = value (a list: one of these)"),
+    "values_hook": ((str,), "\"package.module:function\" returning hypothesis strategies per property"),
 }
 
 #: Old key -> its new name; read for one release with a notice (``profile`` values are mapped too).
@@ -95,6 +102,7 @@ def _target(name: str, spec: Any, source: str) -> Target:
     unknown = set(spec) - allowed
     if unknown:
         raise UsageError(f"{where}: unknown keys {sorted(unknown)}; known: {sorted(allowed)}")
+    _check_target_types(where, spec)
     first = spec[forms[0]]
     value: Any = first if not (forms[0] == "command" and isinstance(first, list)) else [str(x) for x in first]
     if forms[0] == "command" and isinstance(value, str):
@@ -110,29 +118,42 @@ def _target(name: str, spec: Any, source: str) -> Target:
     )
 
 
+def _check_target_types(where: str, spec: Mapping[str, Any]) -> None:
+    expected = {"url": str, "module": str, "cwd": str, "bearer_env": str, "sse": bool}
+    for key, kind in expected.items():
+        if key in spec and not isinstance(spec[key], kind):
+            raise UsageError(f"{where}: {key}={spec[key]!r} must be {'true or false' if kind is bool else 'a string'}"[:400])
+    command = spec.get("command")
+    if command is not None and not (isinstance(command, str) or (
+        isinstance(command, list) and all(isinstance(x, str) for x in command)
+    )):
+        raise UsageError(f"{where}: command={command!r} must be a string or a list of strings"[:400])
+    for key in ("env", "headers"):
+        table = spec.get(key, {})
+        if not isinstance(table, Mapping) or not all(isinstance(v, str) for v in table.values()):
+            raise UsageError(f"{where}: {key}={table!r} must be a table of name = \"string\""[:400])
+
+
 def load_config(path: str | None = None, *, start: str | None = None) -> Config:
     """Read ``[tool.feeler]`` from *path*, or from the nearest pyproject.toml above *start* (cwd)."""
     if path is None:
         folder = os.path.abspath(start or os.getcwd())
         while True:
             candidate = os.path.join(folder, "pyproject.toml")
-            if os.path.isfile(candidate):
+            if os.path.lexists(candidate) and not os.path.isdir(candidate):  # a FIFO here is refused, not skipped
                 path = candidate
                 break
             parent = os.path.dirname(folder)
             if parent == folder:
                 return Config()
             folder = parent
-    try:
-        with open(path, "rb") as handle:
-            data = tomllib.load(handle)
-    except OSError as exc:
-        raise UsageError(f"cannot read {path}: {exc.strerror}") from exc
-    except tomllib.TOMLDecodeError as exc:
-        raise UsageError(f"{path}: not valid TOML ({exc})") from exc
-    table = data.get("tool", {}).get("feeler", {})
+    data = read_toml(path, what="the config file", fix="fix the file: it must be UTF-8 TOML")
+    tool = data.get("tool", {})
+    if not isinstance(tool, dict):
+        raise UsageError(f"{path}: tool={tool!r} must be a table ([tool.feeler] goes under [tool])")
+    table = tool.get("feeler", {})
     if not isinstance(table, dict):
-        raise UsageError(f"{path}: [tool.feeler] must be a table")
+        raise UsageError(f"{path}: [tool.feeler] must be a table, got {type(table).__name__} {table!r}"[:300])
     table = _renamed(dict(table))
     for key, value in table.items():
         if key not in _KEYS:
@@ -141,13 +162,35 @@ def load_config(path: str | None = None, *, start: str | None = None) -> Config:
             raise UsageError(f"{path}: unknown key [tool.feeler] {key}{hint}")
         types, what = _KEYS[key]
         if not isinstance(value, types) or (isinstance(value, bool) and bool not in types):
-            raise UsageError(f"{path}: [tool.feeler] {key}={value!r} must be {what}")
+            raise UsageError(f"{path}: [tool.feeler] {key}={value!r} must be {what}"[:400])
+        _check_inside(path, key, value)
     if "depth" in table:
         from feeler.depth import DEPTHS
 
         if table["depth"] not in DEPTHS:
             raise UsageError(f"{path}: [tool.feeler] depth={table['depth']!r} must be one of {', '.join(DEPTHS)}")
-    return Config(source=path, values=table)
+    config = Config(source=path, values=table)
+    config.targets()  # every target entry is checked now, not when first used
+    return config
+
+
+def _check_inside(path: str, key: str, value: Any) -> None:
+    """Values inside lists and tables, and numbers: strings in lists, finite positive seconds."""
+    where = f"{path}: [tool.feeler] {key}"
+    if isinstance(value, float) and not math.isfinite(value):
+        raise UsageError(f"{where}={value!r} must be a finite number")
+    if key == "timeout" and value <= 0:
+        raise UsageError(f"{where}={value!r} must be a positive number of seconds")
+    if isinstance(value, list):
+        bad = next((item for item in value if not isinstance(item, str)), None)
+        if bad is not None:
+            raise UsageError(f"{where} must list only strings; {bad!r} is {type(bad).__name__}"[:400])
+    if key == "budgets":
+        for name, seconds in value.items():
+            if isinstance(seconds, bool) or not isinstance(seconds, (int, float)) or not (
+                math.isfinite(seconds) and seconds > 0
+            ):
+                raise UsageError(f"{where}.{name}={seconds!r} must be a positive number of seconds"[:400])
 
 
 def _renamed(table: dict[str, Any]) -> dict[str, Any]:

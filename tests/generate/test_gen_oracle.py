@@ -16,22 +16,15 @@ from typing import Any
 
 import jsonschema
 import pytest
-import referencing
 from hypothesis import HealthCheck, assume, given, settings
 from hypothesis import strategies as st
 
 from feeler._json import json_path
 from feeler.errors import SchemaProblem
 from feeler.generate import ToolSchema, coverage, drawn_cases, go_cases, nogo_cases
+from gen_reference import reference_validator
 
 CORPUS = sorted((pathlib.Path(__file__).parent / "corpus").glob("*.json"))
-
-
-def reference_validator(schema: Any) -> Any:
-    # jsonschema as the reference validator: dialect from $schema (default 2020-12), formats checked,
-    # and an empty registry so nothing is fetched.
-    cls = jsonschema.validators.validator_for(schema, default=jsonschema.Draft202012Validator)
-    return cls(schema, format_checker=cls.FORMAT_CHECKER, registry=referencing.Registry())
 
 
 def assert_cases_hold(schema: Any, *, draws: int = 0) -> tuple[list, list]:

@@ -5,12 +5,11 @@ On a terminal it asks first; in scripts pass ``--yes``. Without either it refuse
 
 from __future__ import annotations
 
-import json
 import sys
-from pathlib import Path
 
 import click
 
+from feeler.cli_options import SECONDS
 from feeler.cli_options import apply_renamed, renamed_option
 from feeler.errors import FeelerError
 
@@ -42,7 +41,7 @@ def _is_terminal() -> bool:
               help="Code revision of the server to record in the header as sourceRef (e.g. a git commit).")
 @renamed_option("--revision", "--source-ref", "source_ref")
 @click.option("--yes", "-y", is_flag=True, help="Write without asking (for scripts and CI).")
-@click.option("--timeout", type=float, default=30.0, show_default=True, help="Seconds for a live capture.")
+@click.option("--timeout", type=SECONDS, default=30.0, show_default=True, help="Seconds for a live capture.")
 def approve(target: str, root: str, name: str | None, outputs_file: str | None, record_outputs: bool,
             record_tools: tuple[str, ...], per_tool: int | None, source_ref: str | None, yes: bool,
             timeout: float) -> None:
@@ -73,12 +72,10 @@ def approve(target: str, root: str, name: str | None, outputs_file: str | None, 
         else:
             catalog, label = load_side(target, timeout=timeout)
         if outputs_file:
-            try:
-                outputs = json.loads(Path(outputs_file).read_text(encoding="utf-8"))
-            except ValueError as exc:
-                raise click.UsageError(f"{outputs_file}: not valid JSON ({exc})") from exc
-            if not isinstance(outputs, list):
-                raise click.UsageError(f"{outputs_file}: expected a JSON list of {{tool, arguments, result}}")
+            from feeler._read import read_json
+
+            outputs = read_json(outputs_file, what="the outputs file", expect=list,
+                                fix="give a JSON list of {tool, arguments, result} objects")
         store = BaselineStore(root, name or label)
         result = run_approve(store, catalog, outputs, source_ref=source_ref, echo=click.echo, masks=masks,
                              confirm=(lambda _q: True) if yes else (lambda q: click.confirm(q, default=False)))
@@ -99,6 +96,10 @@ def _record(target: str, timeout: float, tools: list[str], per_tool: int) -> tup
         raise click.UsageError(f"{target} is a file or folder; --record-outputs needs a live target")
     with connected(target, timeout=timeout) as session:
         catalog = capture(session)
-        outputs = record_outputs(session, catalog, tools=tools, per_tool=per_tool)
+        from feeler.config import load_config
+        from feeler.redact import redactor_for
+
+        outputs = record_outputs(session, catalog, tools=tools, per_tool=per_tool,
+                                 redactor=redactor_for(None, load_config().values))
     click.echo(f"feeler approve: recorded {len(outputs)} output(s) of {len({r['tool'] for r in outputs})} tool(s)")
     return catalog, target, outputs

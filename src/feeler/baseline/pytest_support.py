@@ -2,11 +2,12 @@
 baseline, or approve them.
 
 Storage never breaks a run: a missing baseline is not a failure (there is nothing to compare with yet)
-and a corrupt one is a warning; xdist workers never write (only the controller does).
+and a corrupt one fails the catalog item; xdist workers never write (only the controller does).
 """
 
 from __future__ import annotations
 
+import os
 from typing import Any
 
 from feeler.baseline.store import BaselineStore, is_writer
@@ -32,6 +33,7 @@ def check_catalog_against_baseline(
     """
     from feeler.diff import diff_catalogs, render
     from feeler.diff.outputs import OutputMasks, compare_outputs
+    from feeler.redact import redactor_for
 
     cfg = config or {}
     store = BaselineStore(folder, target.spec)
@@ -43,12 +45,18 @@ def check_catalog_against_baseline(
             from feeler.baseline.record import record_outputs
 
             outputs = record_outputs(session, catalog, tools=cfg.get("record_tools", []),
-                                     per_tool=int(cfg.get("record_per_tool", 3)))  # fmt: skip
+                                     per_tool=int(cfg.get("record_per_tool", 3)),
+                                     redactor=redactor_for(target, cfg))  # fmt: skip
         store.write(catalog, outputs)
         return []
-    approved = store.catalog_or_none()
-    if approved is None:
+    if not store.exists():
         return []
+    from feeler.errors import BaselineError
+
+    try:  # a corrupt baseline fails the item: it must never let a run pass unnoticed
+        approved = store.read_catalog()
+    except BaselineError as exc:
+        return [f"the approved baseline cannot be used: {exc}"]
     problems: list[str] = []
     report = diff_catalogs(approved, catalog, samples=5, old_label="baseline", new_label="live")
     if report.changes:
@@ -59,15 +67,15 @@ def check_catalog_against_baseline(
             f"`feeler approve {target.spec}` or pytest --feeler-approve)",
             render(report, "text"),
         ]
-    if session is not None and store.outputs_path.exists():
+    if session is not None and os.path.lexists(store.outputs_path):
         from feeler.baseline.record import rerun_records
-        from feeler.errors import BaselineError
 
         try:
             records = store.read_outputs()
         except BaselineError as exc:
             return problems + [str(exc)]
-        changes = compare_outputs(records, rerun_records(session, records), OutputMasks.from_config(cfg))
+        changes = compare_outputs(records, rerun_records(session, records, redactor=redactor_for(target, cfg)),
+                                  OutputMasks.from_config(cfg))
         if changes:
             problems.append(
                 f"{len(changes)} recorded output(s) changed since {store.outputs_path} was approved "

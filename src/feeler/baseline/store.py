@@ -27,6 +27,7 @@ from pathlib import Path
 from typing import Any
 
 from feeler._json import canonical_dumps
+from feeler._read import read_json, read_text
 from feeler.catalog import Catalog
 from feeler.errors import BaselineError, UsageError
 from feeler.target import target_slug
@@ -139,17 +140,10 @@ def _atomic_prepare(path: Path, text: str) -> Path:
 
 
 def _load(path: Path) -> Any:
-    try:
-        text = path.read_text(encoding="utf-8")
-    except FileNotFoundError:
-        raise BaselineError(f"{path}: no baseline here; run `feeler approve` to record one") from None
-    except (OSError, UnicodeDecodeError) as exc:
-        raise BaselineError(f"{path}: cannot be read ({exc}); {FIX}") from exc
-    try:
-        return json.loads(text)
-    except json.JSONDecodeError as exc:
-        raise BaselineError(f"{path}:{exc.lineno}:{exc.colno}: not valid JSON ({exc.msg}) — the file is corrupt "
-                            f"or was edited by hand; {FIX}") from exc
+    if not os.path.lexists(path):
+        raise BaselineError(f"{path}: no baseline here; run `feeler approve` to record one")
+    return read_json(path, what="the baseline file", fix=f"the file is corrupt or was edited by hand; {FIX}",
+                     expect=dict, error=BaselineError)
 
 
 def _check_header(path: Path, data: Any) -> dict[str, Any]:
@@ -193,7 +187,8 @@ class BaselineStore:
         return self.folder / OUTPUTS_FILE
 
     def exists(self) -> bool:
-        return self.catalog_path.is_file()
+        """Whether anything is at the catalog's path (a folder or FIFO there is a corrupt baseline, not none)."""
+        return os.path.lexists(self.catalog_path)
 
     # -- reading -------------------------------------------------------------------------------
     def read_header(self) -> dict[str, Any]:
@@ -210,7 +205,7 @@ class BaselineStore:
 
     def read_outputs(self) -> list[dict[str, Any]]:
         """The recorded outputs (``[]`` when none were recorded)."""
-        if not self.outputs_path.exists():
+        if not os.path.lexists(self.outputs_path):
             return []
         data = _load(self.outputs_path)
         _check_header(self.outputs_path, data)
@@ -271,7 +266,7 @@ class BaselineStore:
                 for path, text in files.items():
                     temps[path] = _atomic_prepare(path, text)
                     if path.exists():  # kept so a failure between two replaces can roll the first back
-                        backups[path] = _atomic_prepare(path, path.read_text(encoding="utf-8"))
+                        backups[path] = _atomic_prepare(path, read_text(path, fix=FIX, error=BaselineError))
                 for path, tmp in temps.items():
                     os.replace(tmp, path)
                     done.append(path)
@@ -292,8 +287,8 @@ class BaselineStore:
     def _differs(self, path: Path, text: str) -> bool:
         """Whether *path* needs rewriting: its content other than the header differs from *text*."""
         try:
-            old = json.loads(path.read_text(encoding="utf-8"))
-        except (OSError, ValueError):
+            old = read_json(path, what="the baseline file", fix=FIX, expect=None, error=BaselineError)
+        except BaselineError:
             return True
         new = json.loads(text)
         if isinstance(old, dict):

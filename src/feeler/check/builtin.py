@@ -157,15 +157,18 @@ def go_enters(ctx: CallContext) -> Iterator[Problem]:
 
 @register("bounds_honoured", applies_to=("go",), reference="JSON Schema 2020-12 validation sections 6.2-6.4")
 def bounds_honoured(ctx: CallContext) -> Iterator[Problem]:
-    """A value exactly on a bound the schema allows (minimum, maxLength...) is not refused with ``isError``."""
+    """A value exactly on a bound the schema allows (minimum, maxLength...) is not refused with ``isError``
+    when the same arguments one step inside the bound (the base) are accepted."""
+    from feeler.world.anchor import BOUND_KEYWORDS
+
     ex = ctx.exchange
-    case = ctx.case
-    if ex is None or case is None or not getattr(case, "is_boundary", False):
+    if ex is None or ctx.case is None or ctx.base != "entered" or ctx.keyword not in BOUND_KEYWORDS:
         return
     if ex.is_error_result:
         text = " ".join(_texts(ex.result))[:160]
         yield Problem(
-            f"the value on the bound{_where(ctx)} is allowed by the schema but the tool refused it: {text}",
+            f"the value on the bound{_where(ctx)} is allowed by the schema but the tool refused it, "
+            f"while it accepted the same arguments just inside the bound: {text}",
             error_class=f"bound:{ctx.keyword}",
         )
 
@@ -191,23 +194,24 @@ def nogo_stops(ctx: CallContext) -> Iterator[Problem]:
         )
 
 
-_EXCEPTION_NAME = re.compile(r"\b([A-Z][A-Za-z0-9_]*(?:Error|Exception))\b(?::|\()")
-
-
 @register("no_crash", applies_to=("go", "no-go"), reference="common practice: a tool reports failures, it does not crash")
 def no_crash(ctx: CallContext) -> Iterator[Problem]:
-    """A call never ends in an unhandled exception: no exception class named in an error, no exit, no hang."""
+    """A call never ends in an unhandled exception: no exception class, traceback line or SDK crash text
+    ("Error executing tool NAME") in an error or an isError result, no exit, no hang."""
+    from feeler.check.trust import crash_reason
+
     if ctx.failure is not None:
         kind = type(ctx.failure).__name__
         what = {"RequestTimeout": "hung (no answer in time)", "ServerExited": "made the server exit"}.get(kind, f"failed ({kind})")
         yield Problem(f"the call {what}{_where(ctx)}: {ctx.failure}", error_class=kind)
         return
     for text in _error_texts(ctx):
-        match = _EXCEPTION_NAME.search(text)
-        if match and match.group(1) not in ("ValidationError", "ToolError"):
+        reason = crash_reason(text)
+        if reason:
+            what = {"sdk-crash": "crashed (the SDK's text for an unexpected exception)", "traceback": "crashed (a traceback)"}
             yield Problem(
-                f"the tool raised an unhandled {match.group(1)}{_where(ctx)}: {text.strip()[:200]}",
-                error_class=f"unhandled:{match.group(1)}",
+                f"the tool {what.get(reason, 'raised an unhandled ' + reason.partition(':')[2])}{_where(ctx)}: {text.strip()[:200]}",
+                error_class=reason,
             )
             return
 
@@ -230,13 +234,16 @@ _ABS_PATH = re.compile(
 
 @register("no_leaks", applies_to=("go", "no-go", "probe"), reference="common practice (OWASP: error handling); MCP 2025-11-25 server/tools security")
 def no_leaks(ctx: CallContext) -> Iterator[Problem]:
-    """Errors leak no internals: stack traces (Python, JavaScript, Java, Go), absolute file paths, secrets."""
+    """Errors leak no internals: stack traces (Python, JavaScript, Java, Go), absolute file paths (but for
+    those the user gave: the target's command line and working folder, the arguments sent), secrets."""
+    from feeler.check.trust import given_path
+
     for text in _error_texts(ctx):
         for name, pattern in _TRACES.items():
             if pattern.search(text):
                 yield Problem(f"an error shows a {name.replace('-', ' ')}{_where(ctx)}", error_class=name)
                 break
-        path = _ABS_PATH.search(text)
+        path = next((m for m in _ABS_PATH.finditer(text) if not given_path(m.group(0), ctx.settings.given_paths, getattr(ctx.case, "arguments", None))), None)
         if path:
             yield Problem(f"an error shows an absolute file path {path.group(0)!r}{_where(ctx)}", error_class="absolute-path")
         for secret in ctx.settings.secrets:
@@ -321,10 +328,19 @@ def latency(ctx: CallContext) -> Iterator[Problem]:
 def gate_opens(ctx: CallContext) -> Iterator[Problem]:
     """The gate opens: at least one of a tool's go cases enters."""
     stats = ctx.stats
-    if stats is None or stats.go_calls == 0:
-        return
+    if stats is None or stats.go_calls == 0 or getattr(getattr(stats, "world", None), "hint", None):
+        return  # no go case, or one hint (values_needed) says what to give instead
     if stats.go_entered == 0:
         yield Problem(f"stopped all {stats.go_calls} go cases (the schema promises more than the tool accepts)", error_class="rejects-all")
+
+
+@register("values_needed", applies_to=("tool",), reference="common practice: a tool that refuses every call with one message needs a value from its world")
+def values_needed(ctx: CallContext) -> Iterator[Problem]:
+    """When every go case of a tool is refused with the same message: one hint quoting it and naming the
+    property to give a value for (``--value PROPERTY=...``), instead of one finding per refused case."""
+    hint = getattr(getattr(ctx.stats, "world", None), "hint", None)
+    if hint:
+        yield Problem(hint, error_class="needs-value")
 
 
 # -- the advertised tool itself ----------------------------------------------------------------------
@@ -353,6 +369,22 @@ def schema_usable(ctx: CallContext) -> Iterator[Problem]:
 
         if output_validator(tool.output_schema) is None:
             yield Problem("the outputSchema is not a valid JSON Schema", error_class="output-schema-invalid")
+
+
+@register("examples_valid", applies_to=("catalog",), severity="warning", reference="JSON Schema 2020-12 validation 9.5 (examples); jsonschema")
+def examples_valid(ctx: CallContext) -> Iterator[Problem]:
+    """Every ``examples`` entry of the inputSchema is valid against the subschema it sits in."""
+    from feeler.errors import SchemaProblem
+    from feeler.world.hints import bad_examples
+
+    if ctx.tool is None:
+        return
+    try:
+        bad = bad_examples(ctx.tool.input_schema)
+    except SchemaProblem:
+        return  # schema_usable reports it
+    for location, value, message in bad:
+        yield Problem(f"the example {value!r} at {location} breaks its own schema: {message[:160]}", error_class=f"example:{location}")
 
 
 @register("tool_name", applies_to=("catalog",), severity="warning", reference="MCP 2025-11-25 server/tools (tool names, SHOULD)")

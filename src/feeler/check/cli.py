@@ -2,13 +2,16 @@
 
 from __future__ import annotations
 
+import math
 import sys
+import time
 from typing import Any
 
 import click
 
-from feeler.cli_options import ConnectOptions, apply_renamed, renamed_option, target_options
+from feeler.cli_options import SECONDS, ConnectOptions, apply_renamed, renamed_option, target_options
 from feeler.errors import UsageError
+from feeler.report.cli import report_options, write_from_options
 
 __all__ = ["check", "replay_command"]
 
@@ -21,6 +24,19 @@ def _budgets(values: tuple[str, ...], config: dict[str, Any]) -> dict[str, float
             out[name if sep else "*"] = float(seconds)
         except ValueError:
             raise UsageError(f"--budget {value!r}: expected SECONDS or TOOL=SECONDS") from None
+        if not (math.isfinite(out[name if sep else "*"]) and out[name if sep else "*"] > 0):
+            raise UsageError(f"--budget {value!r}: the seconds must be a finite number above 0")
+    return out
+
+
+def audit_settings(config: Any) -> dict[str, Any]:
+    """The audit thresholds of ``[tool.feeler]`` (``max_tools``, ``max_catalog_tokens``, ``allowed_hosts``)."""
+    out: dict[str, Any] = {}
+    for key in ("max_tools", "max_catalog_tokens"):
+        if config.get(key) is not None:
+            out[key] = int(config.get(key))
+    if config.get("allowed_hosts"):
+        out["allowed_hosts"] = tuple(str(h) for h in config.get("allowed_hosts"))
     return out
 
 
@@ -47,6 +63,8 @@ def _list_checks(ctx: click.Context, _param: click.Parameter, value: bool) -> No
 @click.option("--sample-seed", type=int, default=None, help="Seed of the sampled go cases (default 0: the same cases every run).")
 @renamed_option("--go-examples", "--samples", "samples", type=click.IntRange(min=0))
 @renamed_option("--seed", "--sample-seed", "sample_seed", type=int)
+@click.option("--value", "values", multiple=True, metavar="[TOOL:]PROPERTY=JSON",
+              help="A value from the server's world for a property or $.path (repeatable; a JSON list: one of these).")
 @click.option("--include", multiple=True, metavar="PATTERN", help="Only tools matching this glob (repeatable).")
 @click.option("--exclude", multiple=True, metavar="PATTERN", help="Skip tools matching this glob (repeatable).")
 @click.option("--allow-destructive", is_flag=True, help="Also call tools annotated destructiveHint: true.")
@@ -63,6 +81,8 @@ def _list_checks(ctx: click.Context, _param: click.Parameter, value: bool) -> No
 @renamed_option("--every-revision", "--every-protocol-version", "every_revision", is_flag=True)
 @click.option("--format", "fmt", type=click.Choice(["text", "json"]), default="text", show_default=True)
 @click.option("--replay-dir", default=None, help="Where replay files go [.feeler/replays].")
+@report_options
+@click.option("--call-log", default=None, metavar="FILE", help="Append one JSON line per tool call to FILE (see README, Call log).")
 @click.option("-v", "--verbose", is_flag=True, help="Show full arguments in findings.")
 def check(**kwargs: Any) -> int:
     """Call every tool of TARGET with go and no-go cases and check every answer.
@@ -74,6 +94,7 @@ def check(**kwargs: Any) -> int:
     from feeler.check.report import report_json, report_text
     from feeler.check.runner import RunOptions, Runner
     from feeler.config import load_config
+    from feeler.redact import redactor_for
 
     from feeler.depth import samples_for
 
@@ -82,6 +103,8 @@ def check(**kwargs: Any) -> int:
     fmt = kwargs.pop("fmt")
     verbose = kwargs.pop("verbose")
     every = kwargs.pop("every_revision")
+    report_dir, report_formats = kwargs.pop("report_dir"), kwargs.pop("report_formats")
+    call_log = kwargs.pop("call_log")
     names = kwargs["target"]
     configured = config.targets()
     if len(names) == 1 and names[0] in configured:
@@ -93,11 +116,16 @@ def check(**kwargs: Any) -> int:
         opts = ConnectOptions(kwargs)
     if opts.session["revision"] is None and config.get("protocol_version"):
         opts.session["revision"] = config.get("protocol_version")
+    from feeler.world.known import known_pool
+
     samples = kwargs["samples"] if kwargs["samples"] is not None else config.get("samples")
     if samples is None:
         samples = samples_for(kwargs["depth"] or config.get("depth"))
+    seed = kwargs["sample_seed"] if kwargs["sample_seed"] is not None else config.get("sample_seed", 0)
+    pool = known_pool(kwargs["values"], config.get("values"), config.get("values_hook"), seed=seed)
     options = RunOptions(
-        sample_seed=kwargs["sample_seed"] if kwargs["sample_seed"] is not None else config.get("sample_seed", 0),
+        values=pool,
+        sample_seed=seed,
         samples=samples,
         include=list(kwargs["include"]) or list(config.get("include", [])),
         exclude=list(kwargs["exclude"]) or list(config.get("exclude", [])),
@@ -107,17 +135,30 @@ def check(**kwargs: Any) -> int:
         settings=CheckSettings(
             strict_go=kwargs["strict_go"] or bool(config.get("strict_go", False)),
             latency_budget=_budgets(kwargs["budget"], config.get("budgets", {})),
+            **audit_settings(config),
         ),
         probes=not kwargs["no_probes"],
         dry_run=kwargs["dry_run"],
         replay_dir=kwargs["replay_dir"] or config.get("replay_dir", ".feeler/replays"),
+        redactor=redactor_for(opts.target, config.values),
     )
     progress = (lambda line: click.echo(line, err=True)) if sys.stderr.isatty() or fmt == "text" else None
     if every:
         from feeler.check.revisions import check_every_revision
 
         return check_every_revision(opts, options, fmt=fmt, progress=progress)
-    report = Runner(opts.target, options, session_options=opts.session, progress=progress).run()
+    from feeler.report.document import now_iso
+
+    started, clock = now_iso(), time.monotonic()
+    runner = Runner(opts.target, options, session_options=opts.session, progress=progress)
+    if call_log:
+        from feeler.campaign.calllog import CallLog
+
+        with CallLog(call_log) as log:
+            runner.on_call = log.hook
+            report = runner.run()
+    else:
+        report = runner.run()
     if options.dry_run:
         import json
 
@@ -126,29 +167,37 @@ def check(**kwargs: Any) -> int:
         click.echo(f"feeler: {len(report.planned)} calls would be made (dry run)", err=True)
         return 0
     click.echo(report_json(report) if fmt == "json" else report_text(report, verbose=verbose), nl=False)
+    if report_dir:
+        from feeler.report import build_report
+
+        write_from_options(build_report(report, started_at=started, duration=time.monotonic() - clock), report_dir, report_formats)
     return report.exit_code()
 
 
 @click.command("replay")
 @click.argument("file", type=click.Path(dir_okay=False))
-@click.option("--timeout", type=click.FloatRange(min=0.1), default=30.0, show_default=True)
+@click.option("--timeout", type=SECONDS, default=30.0, show_default=True)
 def replay_command(file: str, timeout: float) -> int:
     """Send the request recorded in a replay FILE again and show the answer.
 
     Exit code 1 when the finding shows again, 0 when it does not, 2 on errors.
     """
     from feeler.check.replay import load_replay, replay
+    from feeler.config import load_config
+    from feeler.redact import redactor_for
+    from feeler.target import Target
 
     data = load_replay(file)
     outcome = replay(data, timeout=timeout)
-    click.echo(f"sent:     {outcome.request}")
-    click.echo(f"answer:   {outcome.answer}")
+    red = redactor_for(Target.from_json(data["target"]), load_config().values).text  # the new answer may leak too
+    click.echo(f"sent:     {red(outcome.request)}")
+    click.echo(f"answer:   {red(str(outcome.answer))}")
     finding = data["finding"]
-    click.echo(f"finding:  [{finding.get('check')}] {finding.get('message')}")
+    click.echo(red(f"finding:  [{finding.get('check')}] {finding.get('message')}"))
     if outcome.reproduced:
-        click.echo(f"reproduced: [{finding.get('check')}] {outcome.messages[0]}")
+        click.echo(red(f"reproduced: [{finding.get('check')}] {outcome.messages[0]}"))
         return 1
-    click.echo(f"not reproduced: [{finding.get('check')}] the answer no longer shows this problem")
+    click.echo(red(f"not reproduced: [{finding.get('check')}] the answer no longer shows this problem"))
     return 0
 
 

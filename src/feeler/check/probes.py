@@ -21,6 +21,9 @@ TOOL_PROBES = frozenset({"arguments-array", "arguments-string", "arguments-null"
 _SILENCE_TOLERATED = frozenset({"not-json", "batch-forbidden"})
 #: Seconds to wait for a probe's answer: a clean server answers at once.
 PROBE_TIMEOUT = 3.0
+#: Seconds for probes that many servers leave unanswered (tolerated silence): a short, separate wait, so
+#: that silence costs little; an answer from a clean server comes at once on loopback (common practice).
+SILENT_PROBE_TIMEOUT = 0.75
 #: Codes a 2026-07-28 HTTP server may answer with before it reads the body (MCP 2026-07-28 streamable-http).
 _HTTP_HEADER_CODES = (-32020,)
 
@@ -37,7 +40,8 @@ def run_probes(runner: Runner, tool: Tool, stats: ToolStats) -> None:
         ctx = CallContext("probe", tool if per_tool else None, runner.revision, runner.era, runner.settings, case=probe)
         try:
             session = runner.open()
-            ctx.exchange = session.send_raw(probe.text, expect_answer=probe.expects_answer, timeout=min(session.request_timeout, PROBE_TIMEOUT))
+            wait = SILENT_PROBE_TIMEOUT if probe.silence_ok or probe.name in _SILENCE_TOLERATED else PROBE_TIMEOUT
+            ctx.exchange = session.send_raw(probe.text, expect_answer=probe.expects_answer, timeout=min(session.request_timeout, wait))
         except RequestTimeout as exc:
             ctx.failure = exc
         except ServerExited as exc:

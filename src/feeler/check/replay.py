@@ -16,6 +16,7 @@ from datetime import datetime, timezone
 from typing import Any
 
 from feeler._files import write_text_atomic
+from feeler._read import read_json
 from feeler.catalog import Tool
 from feeler.check.findings import Finding
 from feeler.errors import TargetError, UsageError
@@ -43,6 +44,8 @@ def write_replay(folder: str, target: Target, finding: Finding, settings: Any = 
     }
     if settings is not None:  # judged again with the same strictness and budgets (never the secrets)
         data["settings"] = {"strictGo": bool(settings.strict_go), "latencyBudget": dict(settings.latency_budget)}
+    if finding.extra.get("sequence"):
+        data["sequence"] = finding.extra["sequence"]  # a chain: every call, linked by earlier answers
     tool_folder = target_slug(finding.tool) if finding.tool else SERVER_FOLDER
     path = os.path.join(folder, target.slug(), tool_folder, f"{finding.short_id}.replay.json")
     write_text_atomic(path, json.dumps(data, indent=2, ensure_ascii=False, sort_keys=True) + "\n")
@@ -50,20 +53,15 @@ def write_replay(folder: str, target: Target, finding: Finding, settings: Any = 
 
 
 def load_replay(path: str) -> dict[str, Any]:
-    try:
-        with open(path, encoding="utf-8") as handle:
-            data = json.load(handle)
-    except OSError as exc:
-        raise UsageError(f"cannot read the replay file {path}: {exc.strerror}") from exc
-    except json.JSONDecodeError as exc:
-        raise UsageError(f"{path}:{exc.lineno}:{exc.colno}: the replay file is not valid JSON ({exc.msg})") from exc
-    if not isinstance(data, dict) or data.get("format") not in (REPLAY_FORMAT, *OLD_REPLAY_FORMATS):
+    data = read_json(path, what="the replay file", fix="give a replay file written by `feeler check`")
+    if data.get("format") not in (REPLAY_FORMAT, *OLD_REPLAY_FORMATS):
         raise UsageError(f"{path}: not a feeler replay file (expected format {REPLAY_FORMAT!r})")
+    for key, kind in (("target", dict), ("request", str), ("finding", dict)):
+        if not isinstance(data.get(key), kind):
+            raise UsageError(f"{path}: the replay file has no {key!r} {'object' if kind is dict else 'string'}; "
+                             "write it again with `feeler check`")
     if data["format"] in OLD_REPLAY_FORMATS:
         data = _from_old_replay(data)
-    for key in ("target", "request", "finding"):
-        if key not in data:
-            raise UsageError(f"{path}: the replay file has no {key!r}; write it again with `feeler check`")
     return data
 
 
@@ -111,7 +109,7 @@ class _Case:
 def replay(data: dict[str, Any], *, timeout: float = 30.0, target: Target | None = None) -> ReplayOutcome:
     """Send the recorded request again; say whether the same check finds the same problem."""
     from feeler.check.registry import CHECKS, CallContext, CheckSettings
-    from feeler.check.runner import secret_values
+    from feeler.redact import redactor_for
     from feeler.connect import capture, open_session
 
     tgt = target or Target.from_json(data["target"])
@@ -120,6 +118,17 @@ def replay(data: dict[str, Any], *, timeout: float = 30.0, target: Target | None
     session = open_session(tgt, revision=data.get("protocolVersion"), timeout=timeout)
     try:
         catalog = capture(session)
+        if data.get("sequence"):
+            from feeler.world.chains import replay_sequence
+
+            def make_ctx(chain_tool: Tool | None) -> CallContext:
+                settings = CheckSettings(secrets=redactor_for(tgt).values)
+                return CallContext("chain", chain_tool, str(session.revision), str(session.era), settings)
+
+            request, answer, problems = replay_sequence(session, data, make_ctx, catalog, timeout)
+            wanted = finding.get("signature", "").split("|")[-1]
+            same = [p for p in problems if not wanted or p.error_class == wanted]
+            return ReplayOutcome(request, answer, bool(same), [p.message for p in problems])
         tool = None
         if finding.get("tool"):
             try:
@@ -140,7 +149,7 @@ def replay(data: dict[str, Any], *, timeout: float = 30.0, target: Target | None
         settings = CheckSettings(
             strict_go=bool(stored.get("strictGo", False)),
             latency_budget={str(k): float(v) for k, v in (stored.get("latencyBudget") or {}).items()},
-            secrets=secret_values(dict(tgt.env)),
+            secrets=redactor_for(tgt).values,
         )
         ctx = CallContext(ctx_kind, tool, str(session.revision), str(session.era), settings, case=case)
         answer = None

@@ -23,8 +23,10 @@ def report_text(report: RunReport, *, verbose: bool = False) -> str:
         server = cat.server.get("name", "?")
         lines.append(f"feeler check: {report.target.name} ({server}, protocol version {cat.revision}, {cat.era} era)")
     by_tool: dict[str | None, list[Any]] = {}
+    shared = [f for f in report.findings if len(f.tools) > 1]
     for finding in report.findings:
-        by_tool.setdefault(finding.tool, []).append(finding)
+        if len(finding.tools) <= 1:
+            by_tool.setdefault(finding.tool, []).append(finding)
     for name, stats in sorted(report.tools.items()):
         flags = [] if stats.annotated else ["no annotations"]
         head = f"\n{name}" + (f"  [{', '.join(flags)}]" if flags else "")
@@ -41,6 +43,8 @@ def report_text(report: RunReport, *, verbose: bool = False) -> str:
                 + f"; probes: {stats.probes}"
                 + (f"; median {_median(stats.durations) * 1000:.1f} ms" if stats.durations else "")
             )
+            if stats.go_calls or stats.nogo_calls:
+                lines.append(f"  {stats.world.summary_text()}")
             if stats.nogo_calls:
                 lines.append(f"  stops no-go cases with {stats.rejection_style(report.revision)}")
             if stats.coverage:
@@ -52,6 +56,10 @@ def report_text(report: RunReport, *, verbose: bool = False) -> str:
                     + (f"; not at both ends: {gaps}{more}" if gaps and verbose else "")
                 )
         for finding in by_tool.pop(name, []):
+            lines.extend(_finding_lines(finding, verbose))
+    if shared:
+        lines.append("\nseveral tools (one finding each, the same on every tool listed)")
+        for finding in shared:
             lines.extend(_finding_lines(finding, verbose))
     rest = [f for tool_findings in by_tool.values() for f in tool_findings]
     if rest:
@@ -79,6 +87,9 @@ def totals_line(findings: Any) -> str:
 def _finding_lines(finding: Any, verbose: bool) -> list[str]:
     mark = "FINDING" if finding.severity == "error" else "warning"
     out = [f"  {mark} [{finding.check}] ({finding.kind}) {finding.message}"]
+    if len(finding.tools) > 1:
+        names = ", ".join(finding.tools[:12]) + (f" (+{len(finding.tools) - 12} more)" if len(finding.tools) > 12 else "")
+        out.append(f"      on {len(finding.tools)} tools: {names}")
     if finding.keyword_location:
         out.append(f"      keywordLocation: {finding.keyword_location}  instanceLocation: {finding.instance_location!r}")
     if finding.arguments is not None and finding.kind in ("go", "no-go"):
@@ -114,6 +125,7 @@ def report_json(report: RunReport) -> str:
                 "medianSeconds": _median(s.durations),
                 "schemaProblem": s.schema_problem,
                 "coverage": s.coverage_summary() if s.coverage else None,
+                **s.world.summary(),
             }
             for name, s in sorted(report.tools.items())
         },

@@ -12,7 +12,9 @@ from pathlib import Path
 
 import click
 
+from feeler._read import read_json
 from feeler.catalog import Catalog
+from feeler.cli_options import SECONDS
 from feeler.errors import FeelerError, UsageError
 
 __all__ = ["diff", "load_side"]
@@ -21,12 +23,13 @@ __all__ = ["diff", "load_side"]
 def load_side(spec: str, *, timeout: float = 30.0) -> tuple[Catalog, str]:
     """Turn one command-line side into a catalog and a label (file, baseline folder, or live target)."""
     path = Path(spec)
-    if path.is_file():
-        return Catalog.loads(path.read_text(encoding="utf-8"), source=str(path)), str(path)
     if path.is_dir():
         from feeler.baseline.store import BaselineStore
 
         return BaselineStore.from_folder(path).read_catalog(), str(path)
+    if os.path.lexists(path):  # a file (or a FIFO, device...: refused by the reader without blocking)
+        data = read_json(path, what="the catalog file", fix="give a catalog written by `feeler catalog` or a baseline folder")
+        return Catalog.from_json(data, source=str(path)), str(path)
     try:
         from feeler.connect import capture_catalog  # lazy: the session layer is heavy and optional here
     except ImportError as exc:
@@ -42,7 +45,7 @@ def load_side(spec: str, *, timeout: float = 30.0) -> tuple[Catalog, str]:
               show_default=True, help="Report format; markdown suits a pull-request comment or CI summary.")
 @click.option("--samples", type=click.IntRange(0, 10_000), default=25, show_default=True,
               help="Instances generated per changed schema when looking for witnesses.")
-@click.option("--timeout", type=float, default=30.0, show_default=True, help="Seconds per live capture.")
+@click.option("--timeout", type=SECONDS, default=30.0, show_default=True, help="Seconds per live capture.")
 @click.option("--summary-file", type=click.Path(dir_okay=False), default=None,
               help="Also append the Markdown report to this file (default: $GITHUB_STEP_SUMMARY when set "
                    "and --format markdown).")

@@ -20,6 +20,7 @@ from dataclasses import dataclass, field
 from typing import Any
 
 from feeler._json import json_pointer
+from feeler._limits import schema_limit_problem
 from feeler.diff.model import Change, Direction, Effect, SchemaEdit, Verdict
 from feeler.diff.rules import RULE_KEYWORDS, SCHEMA_RULES
 from feeler.diff.witness import Kit, NoInstance, is_valid, validator
@@ -110,6 +111,8 @@ def diff_schemas(
     """
     if old == new:
         return []
+    if limit := schema_limit_problem(old) or schema_limit_problem(new):  # feeler._limits: refuse before recursing
+        return [Change(rule="schema-limit", direction=direction, verdict=Verdict.LIKELY_BREAKING, message=limit, subject=subject)]
     walk = _Walk(direction, old, new, subject, samples)
     _visit(walk, _norm(old), _norm(new), [], [], frozenset(), 0)
     _sample_compatible(walk)

@@ -24,6 +24,7 @@ from typing import Any
 
 from feeler._json import canonical_dumps
 from feeler.generate._build import Unbuildable, _lower, _merge, _upper, effective, node_types
+from feeler.generate import _ecma
 from feeler.generate._formats import FORMAT_SAMPLES
 from feeler.generate._regex import _c, _p, regex_example
 from feeler.generate._schema import ToolSchema
@@ -324,9 +325,9 @@ def _string(ts: ToolSchema, node: dict) -> Sampler:
     if "pattern" in node:
         pattern = node["pattern"]
         try:
-            tree = list(_p.parse(pattern))
-            compiled = re.compile(pattern)
-        except (re.error, OverflowError, RecursionError) as exc:
+            tree = list(_p.parse(_ecma.translate(pattern)))
+            compiled = _ecma.compiled(pattern)
+        except (re.error, OverflowError, RecursionError, _ecma.PatternError) as exc:
             raise Unbuildable from exc
         fallback = [t for t in (regex_example(pattern, g) for g in (0, 1, 3, 8)) if t is not None and fits(t)]
 
@@ -466,7 +467,7 @@ def _emit(tokens: list, rng: random.Random) -> str:
             out.append(next(c for c in rng.sample(_ASCII, 3) if ord(c) != av))
         elif op is _c.ANY:
             out.append(rng.choice(_ASCII))
-        elif op is _c.AT:
+        elif op in (_c.AT, _c.ASSERT, _c.ASSERT_NOT):  # anchors and look-arounds emit nothing; the match is confirmed after
             continue
         elif op is _c.IN:
             out.append(_class_member(av, rng))

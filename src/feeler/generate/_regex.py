@@ -3,13 +3,15 @@
 hypothesis' ``from_regex`` is the general tool, but a deterministic short match is needed many times per
 schema (base instances, boundary values), so we walk the parse tree once: repeats take their minimum
 (``grow`` adds to it), branches their first alternative, classes their first member. The result is
-always confirmed with :func:`re.search` by the caller; ``None`` means "no luck, fall back".
+always confirmed under ECMA-262 rules (:mod:`._ecma`); ``None`` means "no luck, fall back".
 """
 
 from __future__ import annotations
 
 import functools
 import re
+
+from feeler.generate import _ecma
 
 try:  # Python 3.11+
     import re._constants as _c
@@ -76,7 +78,7 @@ def _emit(tokens: list, grow: int) -> str:
             out.append("a" if av != ord("a") else "b")
         elif op is _c.ANY:
             out.append("a")
-        elif op is _c.AT:
+        elif op in (_c.AT, _c.ASSERT, _c.ASSERT_NOT):  # anchors and look-arounds emit nothing; the match is confirmed after
             continue
         elif op is _c.IN:
             negate = bool(av) and av[0][0] is _c.NEGATE
@@ -98,15 +100,12 @@ def _emit(tokens: list, grow: int) -> str:
 
 @functools.lru_cache(maxsize=512)
 def regex_example(pattern: str, grow: int = 0) -> str | None:
-    """A short string that :func:`re.search` finds *pattern* in, or ``None`` if this builder can't tell.
+    """A short string ECMA-262 *pattern* matches (:func:`feeler.generate._ecma.search`), or ``None``.
 
     :param grow: how many extra repetitions each open-ended repeat gets (0 = the shortest form).
     """
     try:
-        text = _emit(list(_p.parse(pattern)), grow)
+        text = _emit(list(_p.parse(_ecma.translate(pattern))), grow)
     except (_Give, re.error, KeyError, IndexError, TypeError, ValueError, OverflowError):
         return None
-    try:
-        return text if re.search(pattern, text) else None
-    except re.error:
-        return None
+    return text if _ecma.search(pattern, text) else None

@@ -14,11 +14,13 @@ from urllib.parse import unquote
 
 import referencing
 import referencing.exceptions
-from jsonschema import Draft7Validator, Draft201909Validator, Draft202012Validator
+from jsonschema import Draft7Validator, Draft201909Validator, Draft202012Validator, validators
 from jsonschema.exceptions import SchemaError, ValidationError
 from jsonschema.protocols import Validator
 
+from feeler._limits import check_schema_limits
 from feeler.errors import SchemaProblem
+from feeler.generate import _ecma
 
 __all__ = ["DEFAULT_DIALECT", "DIALECTS", "ToolSchema", "compile_schema", "pointer"]
 
@@ -40,6 +42,64 @@ SCHEMA_KEYWORDS = (
 SCHEMA_LIST_KEYWORDS = ("allOf", "anyOf", "oneOf", "prefixItems")
 #: Keywords whose value maps names to subschemas.
 SCHEMA_MAP_KEYWORDS = ("properties", "patternProperties", "$defs", "definitions", "dependentSchemas")
+
+
+# -- the oracle judges patterns the ECMA-262 way (JSON Schema 2020-12 validation 6.3.3, core 6.4) --------
+
+
+def _pattern(validator: Any, regex: str, instance: Any, schema: Any) -> Iterator[ValidationError]:
+    if validator.is_type(instance, "string") and not _ecma.search(regex, instance):
+        yield ValidationError(f"{instance!r} does not match {regex!r}")
+
+
+def _pattern_properties(validator: Any, patterns: dict, instance: Any, schema: Any) -> Iterator[ValidationError]:
+    if not validator.is_type(instance, "object"):
+        return
+    for regex, subschema in patterns.items():
+        for key, value in instance.items():
+            if _ecma.search(regex, key):
+                yield from validator.descend(value, subschema, path=key, schema_path=regex)
+
+
+def _additional(instance: dict, schema: dict) -> list[str]:
+    props = schema.get("properties", {})
+    patterns = list(schema.get("patternProperties", {}))
+    return [k for k in instance if k not in props and not any(_ecma.search(p, k) for p in patterns)]
+
+
+def _additional_properties(validator: Any, spec: Any, instance: Any, schema: Any) -> Iterator[ValidationError]:
+    if not validator.is_type(instance, "object"):
+        return
+    extras = _additional(instance, schema)
+    if validator.is_type(spec, "object"):
+        for extra in extras:
+            yield from validator.descend(instance[extra], spec, path=extra)
+    elif not spec and extras:
+        yield ValidationError(f"Additional properties are not allowed ({', '.join(map(repr, sorted(extras)))} unexpected)")
+
+
+_ECMA_KEYWORDS = {"pattern": _pattern, "patternProperties": _pattern_properties, "additionalProperties": _additional_properties}
+#: The oracle per dialect: jsonschema's validator with the three pattern-reading keywords read the ECMA-262 way.
+#: (``unevaluatedProperties`` still reads ``patternProperties`` with Python's re; see DEVELOPERS.md.)
+ORACLES: dict[type[Validator], type[Validator]] = {
+    cls: validators.extend(cls, _ECMA_KEYWORDS) for cls in (Draft7Validator, Draft201909Validator, Draft202012Validator)
+}
+
+
+def _ecma_regex(value: object) -> bool:
+    if isinstance(value, str):
+        _ecma.translate(value)  # PatternError (a ValueError) says the pattern is not ECMA-262
+    return True
+
+
+def _meta_formats(cls: type[Validator]) -> Any:
+    # The metaschema's "regex" format read the ECMA-262 way (JSON Schema core 6.4), not by Python's re.compile.
+    checker = copy.deepcopy(cls.FORMAT_CHECKER)
+    checker.checks("regex", raises=_ecma.PatternError)(_ecma_regex)
+    return checker
+
+
+_META_FORMATS = {cls: _meta_formats(cls) for cls in (Draft7Validator, Draft201909Validator, Draft202012Validator)}
 
 
 def pointer(parts: tuple[str | int, ...] | list[str | int]) -> str:
@@ -117,7 +177,7 @@ class ToolSchema:
         #: draft-07 ignores every keyword beside ``$ref``; later drafts apply them too.
         self.ref_overrides = self.validator_class is Draft7Validator
         try:
-            self.validator_class.check_schema(schema)
+            self.validator_class.check_schema(schema, format_checker=_META_FORMATS[self.validator_class])
         except SchemaError as exc:
             at = pointer(list(exc.absolute_path)) or "the root"
             raise SchemaProblem(
@@ -125,9 +185,10 @@ class ToolSchema:
             ) from exc
         self._anchors = self._collect_anchors()
         self._check_references()
+        self._check_patterns()
         # An empty registry: local references resolve against the root, anything else is unresolvable
         # (jsonschema's default registry would fetch remote references over the network).
-        self.validator: Validator = self.validator_class(
+        self.validator: Validator = ORACLES[self.validator_class](
             schema,
             format_checker=self.validator_class.FORMAT_CHECKER,
             registry=referencing.Registry(),
@@ -213,6 +274,23 @@ class ToolSchema:
 
         visit(self.schema, ("",))
 
+    def _check_patterns(self) -> None:
+        where = f"tool {self.name!r}: " if self.name else ""
+
+        def visit(node: Any, at: tuple[str | int, ...]) -> None:
+            if isinstance(node, dict):
+                found = [(("pattern",), node["pattern"])] if isinstance(node.get("pattern"), str) else []
+                found += [(("patternProperties", p), p) for p in node.get("patternProperties") or {} if isinstance(p, str)]
+                for rel, regex in found:
+                    try:
+                        _ecma.check(regex)
+                    except _ecma.PatternError as exc:
+                        raise SchemaProblem(f"{where}{pointer(at + rel)}: {exc}", reason=exc.reason) from None
+            for rel, sub in subschemas(node):
+                visit(sub, at + rel)
+
+        visit(self.schema, ())
+
     # -- the oracle ---------------------------------------------------------------------------------
     def is_valid(self, instance: Any) -> bool:
         """The oracle: ``jsonschema`` with format checking on, compiled once."""
@@ -275,5 +353,6 @@ class ToolSchema:
 
 def compile_schema(schema: Any, *, name: str | None = None) -> ToolSchema:
     """Return *schema* compiled as a :class:`ToolSchema` (a :class:`ToolSchema` is returned as is)."""
+    check_schema_limits(schema, name=name)  # feeler._limits: depth, size, enum (a ToolSchema passes as is)
     return schema if isinstance(schema, ToolSchema) else ToolSchema(schema, name=name)
 

@@ -2,25 +2,27 @@
 
 For the common shapes (typed scalars with bounds, enums, formats, patterns, arrays, objects with
 ``properties``/``required``, ``anyOf``/``oneOf``, ``$ref``) the strategy is assembled from hypothesis'
-own strategies, so it is fast and shrinks well. Any node this module does not know goes to
-hypothesis-jsonschema's ``from_schema`` (the fallback), and the result is always filtered by the
-oracle. The object strategy is :func:`objects`: replacing hypothesis-jsonschema's object strategy
-(see tests/generate/test_hypothesis_pin.py) is a change to that function only.
+own strategies, so it is fast and shrinks well. ``if``/``then``/``else`` becomes a choice of the two
+branches, ``contains`` adds matching items; any other keyword (``not``, ``dependentSchemas``,
+``unevaluated*``...) is drawn without it and the result filtered by the node's oracle. Only public
+hypothesis strategies are used (no hypothesis-jsonschema), so any hypothesis from 6.100 on works.
 """
 
 from __future__ import annotations
 
+import functools
 import math
 from collections.abc import Callable, Iterator
 from typing import Any
 
-from hypothesis import HealthCheck, Phase, find, given, reject, settings
+from hypothesis import HealthCheck, Phase, find, given, settings
 from hypothesis import seed as hypothesis_seed
 from hypothesis import strategies as st
 from hypothesis.errors import NoSuchExample, Unsatisfiable
 
 from feeler._json import canonical_dumps
 from feeler.generate._build import TYPES, Unbuildable, _lower, _upper, effective, node_types
+from feeler.generate import _ecma
 from feeler.generate._formats import format_strategies
 from feeler.generate._schema import ToolSchema
 
@@ -35,6 +37,8 @@ _KNOWN = {
     "title", "description", "default", "examples", "$comment", "deprecated", "readOnly", "writeOnly",
     "$schema", "$id", "$anchor", "$defs", "definitions", "contentMediaType", "contentEncoding",
 }  # fmt: skip
+#: Keywords handled beside _KNOWN: "contains" items are added, then the array is filtered by the oracle.
+_BEYOND = _KNOWN | {"contains", "minContains", "maxContains"}
 #: Unbounded sizes are capped this far above the lower bound: tool arguments are small.
 _SPAN = 4
 _FORMATS = format_strategies()
@@ -51,21 +55,19 @@ def strategy_for(ts: ToolSchema, node: Any) -> st.SearchStrategy[Any]:
     return entry[1]
 
 
-def _fallback(ts: ToolSchema, node: Any) -> st.SearchStrategy[Any]:
-    from hypothesis_jsonschema import from_schema
-
-    inner = from_schema(ts.inlined(node))
-
-    @st.composite
-    def guarded(draw: Any) -> Any:
-        try:
-            return draw(inner)
-        except (AssertionError, AttributeError, TypeError, ValueError, KeyError):
-            # hypothesis-jsonschema cannot handle this node (it asserts on some draft-07 mixes):
-            # reject the draw; the oracle filter never sees an unchecked value.
-            reject()
-
-    return guarded().filter(lambda v: ts.valid_under(node, v))
+def _fallback(ts: ToolSchema, raw: Any, node: Any = None) -> st.SearchStrategy[Any]:
+    """Values for a node the builders do not fully know: drawn from what they know, filtered by the oracle."""
+    if isinstance(node, dict):
+        known = {k: v for k, v in node.items() if k in _KNOWN}
+        if "if" in node:
+            # 2020-12 core 10.2.2: a value passes through "then" when it meets "if", else through "else".
+            branches = [{"allOf": [known, node["if"], node.get("then", True)]}, {"allOf": [known, node.get("else", True)]}]
+            base = st.one_of([strategy_for(ts, b) for b in branches])
+        else:
+            base = strategy_for(ts, known) if known else _json_values()
+    else:
+        base = _json_values()
+    return base.filter(lambda v: ts.valid_under(raw, v))
 
 
 def _strategy(ts: ToolSchema, node: Any) -> st.SearchStrategy[Any]:
@@ -78,8 +80,8 @@ def _strategy(ts: ToolSchema, node: Any) -> st.SearchStrategy[Any]:
         return _json_values()
     if node is False:
         return st.nothing()
-    if set(node) - _KNOWN:
-        return _fallback(ts, raw)
+    if set(node) - _BEYOND:
+        return _fallback(ts, raw, node)
     if "const" in node:
         return st.just(node["const"]).filter(lambda v: ts.valid_under(raw, v))
     if "enum" in node:
@@ -98,6 +100,8 @@ def _strategy(ts: ToolSchema, node: Any) -> st.SearchStrategy[Any]:
             continue
     if not parts:
         return _fallback(ts, raw)
+    if "contains" in node:
+        return st.one_of(parts).filter(lambda v: ts.valid_under(raw, v))
     return st.one_of(parts)
 
 
@@ -131,18 +135,16 @@ def _strings(ts: ToolSchema, node: dict) -> st.SearchStrategy[str]:
     fits = lambda s: len(s) >= low and (high is None or len(s) <= high)  # noqa: E731 - code points, as JSON Schema counts
     if "format" in node:
         if node["format"] not in _FORMATS:
-            raise Unbuildable
+            return st.text(min_size=low, max_size=high if high is not None else low + 2 * _SPAN).filter(
+                lambda s: ts.valid_under(node, s))
         strategy = _FORMATS[node["format"]]
         if "pattern" in node:
             return strategy.filter(lambda s: ts.valid_under(node, s))
         return strategy.filter(fits)
     if "pattern" in node:
-        # jsonschema matches patterns with Python's re, where \d, \w and $ are wider than ECMA-262's
-        # (the dialect's regex flavour, 2020-12 validation section 6.3.3). Drawing from printable
-        # ASCII keeps go cases inside both readings, so a server validating per ECMA-262 agrees.
-        if node["pattern"].isascii():
-            return st.from_regex(node["pattern"], alphabet=st.characters(min_codepoint=32, max_codepoint=126)).filter(fits)
-        return st.from_regex(node["pattern"]).filter(fits)
+        # The pattern translated to Python with its ECMA-262 meaning (2020-12 validation section 6.3.3).
+        regex = node["pattern"]
+        return st.from_regex(_ecma.translate(regex)).filter(lambda s: fits(s) and _ecma.search(regex, s))
     return st.text(st.characters(codec="utf-8"), min_size=low, max_size=high if high is not None else low + 2 * _SPAN)
 
 
@@ -163,6 +165,12 @@ def _arrays(ts: ToolSchema, node: dict) -> st.SearchStrategy[list]:
         unique_by=canonical_dumps if node.get("uniqueItems") else None,
     )
     whole = st.builds(lambda h, t: h + t, head, tail) if prefix else tail
+    if "contains" in node:
+        # At least minContains items the contains subschema accepts (2020-12 core 10.3.1.3), at the end.
+        low_c = node.get("minContains", 1)
+        high_c = node.get("maxContains", low_c + 1)
+        wanted = st.lists(strategy_for(ts, {"allOf": [rest, node["contains"]]}), min_size=low_c, max_size=max(low_c, high_c))
+        whole = st.builds(lambda w, v: v + w, wanted, whole)
     if node.get("uniqueItems") and prefix:
         whole = whole.filter(lambda v: len({canonical_dumps(x) for x in v}) == len(v))
     return whole
@@ -191,7 +199,8 @@ def objects(ts: ToolSchema, node: dict) -> st.SearchStrategy[dict]:
     extras: list[st.SearchStrategy[dict]] = []
     ascii_chars = st.characters(min_codepoint=32, max_codepoint=126)
     for pattern, sub in patterns.items():
-        extras.append(st.dictionaries(st.from_regex(pattern, alphabet=ascii_chars), strategy_for(ts, sub), max_size=2))
+        keys = st.from_regex(_ecma.translate(pattern), alphabet=ascii_chars).filter(functools.partial(_ecma.search, pattern))
+        extras.append(st.dictionaries(keys, strategy_for(ts, sub), max_size=2))
     if isinstance(ap, dict) or (ap is True and names is not None):
         keys = strategy_for(ts, names).filter(lambda k: isinstance(k, str)) if names is not None else st.text(
             "abcdefghijklmnopqrstuvwxyz_", min_size=1, max_size=8)

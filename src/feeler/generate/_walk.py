@@ -9,11 +9,11 @@ so a mutator only ever builds the one value it changes.
 
 from __future__ import annotations
 
-import re
 from collections.abc import Callable, Iterator
 from dataclasses import dataclass
 from typing import Any
 
+from feeler.generate import _ecma
 from feeler.generate._schema import ToolSchema, pointer
 
 __all__ = ["Site", "sites"]
@@ -78,14 +78,14 @@ def _visit(ts: ToolSchema, node: Any, vpath: Path, at: str, path: Path, value: A
         patterns = node.get("patternProperties") or {}
         for pattern, sub in patterns.items():
             for name in value:
-                if re.search(pattern, name):
+                if _ecma.search(pattern, name):
                     yield from _visit(ts, sub, vpath + ("patternProperties", pattern),
                                       at + pointer(("patternProperties", pattern)), path + (name,), value[name],
                                       _child(put, value, name), False)  # fmt: skip
         extra = node.get("additionalProperties")
         if isinstance(extra, dict):
             for name in value:
-                if name not in props and not any(re.search(p, name) for p in patterns):
+                if name not in props and not any(_ecma.search(p, name) for p in patterns):
                     yield from _visit(ts, extra, vpath + ("additionalProperties",), at + "/additionalProperties",
                                       path + (name,), value[name], _child(put, value, name), False)  # fmt: skip
         for key in ("dependentSchemas", "dependencies"):

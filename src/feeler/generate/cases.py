@@ -252,9 +252,14 @@ def fast_go_cases(schema: Any, count: int, *, seed: int = 0) -> list[Case]:
     return [Case("go", None, "$", "", value, None, "sampled", "sampled") for value in values]
 
 
-def nogo_cases(schema: Any, *, root_type: bool = False, per_keyword: int = 3, tally: Tally | None = None) -> list[Case]:
+def nogo_cases(
+    schema: Any, *, root_type: bool = False, per_keyword: int = 3, tally: Tally | None = None, bases: list[Any] | None = None
+) -> list[Case]:
     """No-go cases for *schema*: one keyword violated at a time, at any depth, each proven by the oracle.
 
+    :param bases: valid arguments to break, in order (e.g. go cases the server accepted); each place is
+        broken in the first base that reaches it. Invalid ones are skipped; the fullest and smallest
+        instances are used when none is left (the default).
     :param root_type: also make arguments that are not an object at all (``$`` of another type).
         Off by default: MCP requires ``arguments`` to be an object, so those are protocol probes
         (:func:`feeler.generate.protocol_probes`), not argument cases.
@@ -266,7 +271,8 @@ def nogo_cases(schema: Any, *, root_type: bool = False, per_keyword: int = 3, ta
     tally = tally if tally is not None else Tally()
     out: list[Case] = []
     seen: set[str] = set()
-    for site in _sites(ts, base_instances(ts)):
+    chosen = [b for b in bases or [] if ts.is_valid(b)]
+    for site in _sites(ts, chosen or base_instances(ts)):
         for keyword, spec in site.node.items():
             mutator = MUTATORS.get(keyword)
             if mutator is None or (keyword == "type" and site.path == () and not root_type and not site.key_mode):

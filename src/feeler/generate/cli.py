@@ -11,9 +11,10 @@ from typing import Any
 
 import click
 
+from feeler._read import read_json
 from feeler.cli_options import apply_renamed, renamed_option
-from feeler.errors import SchemaProblem
-from feeler.generate._schema import ToolSchema
+from feeler.errors import SchemaProblem, UsageError
+from feeler.generate._schema import ToolSchema, compile_schema
 from feeler.generate.cases import Tally, go_cases, nogo_cases
 
 __all__ = ["cases", "load_schema"]
@@ -25,16 +26,10 @@ def load_schema(path: str) -> tuple[Any, str | None]:
     :raises click.UsageError: unreadable file or invalid JSON (with line and column).
     """
     try:
-        with open(path, encoding="utf-8") as handle:
-            text = handle.read()
-    except OSError as exc:
-        raise click.UsageError(f"cannot read {path!r}: {exc.strerror or exc}") from exc
-    except UnicodeDecodeError as exc:
-        raise click.UsageError(f"{path!r} is not UTF-8 text: {exc.reason}") from exc
-    try:
-        document = json.loads(text)
-    except json.JSONDecodeError as exc:
-        raise click.UsageError(f"{path!r} is not valid JSON: {exc.msg} at line {exc.lineno}, column {exc.colno}") from exc
+        document = read_json(path, what="the schema file", expect=(dict, bool),
+                             fix="give a JSON Schema or a tool object with an inputSchema")
+    except UsageError as exc:
+        raise click.UsageError(str(exc)) from None
     if isinstance(document, dict) and isinstance(document.get("inputSchema"), (dict, bool)):
         name = document.get("name")
         return document["inputSchema"], name if isinstance(name, str) else None
@@ -63,7 +58,7 @@ def cases(schema_file: str, sample_seed: int, samples: int, kind: str) -> None:
     samples = renamed["samples"] if renamed["samples"] is not None else samples
     schema, name = load_schema(schema_file)
     try:
-        ts = ToolSchema(schema, name=name)
+        ts = compile_schema(schema, name=name)
         tally = Tally()
         found = []
         if kind in ("all", "go"):

@@ -176,8 +176,11 @@ def maxLength(ts: ToolSchema, site: Site, high: int) -> Iterator[Any]:
 
 
 def pattern(ts: ToolSchema, site: Site, regex: str) -> Iterator[Any]:
-    """Near-miss strings: changed case, a stray character, a character dropped, digits and letters swapped."""
+    """Near-miss strings: changed case, a stray character, a character dropped, digits and letters swapped;
+    a trailing newline where the pattern ends in ``$`` (ECMA-262 ``$`` does not match before it, Python's does)."""
     value = site.value if isinstance(site.value, str) else ""
+    if regex.endswith("$") and not regex.endswith("\\$"):
+        yield value + "\n"
     swapped = "".join("a" if c.isdigit() else ("0" if c.isalpha() else c) for c in value)
     for candidate in (value + "!", "!" + value, value.upper(), value.lower(), value[:-1], value[1:],
                       swapped, " " + value, value.replace("-", "_"), "", "!"):  # fmt: skip

@@ -1,0 +1,328 @@
+"""The campaign engine: rotate through the tools for a time budget, growing the drawn cases each round.
+
+Round 0 runs every case kind for each tool (catalog checks, boundary and drawn go cases, no-go cases,
+probes), like ``feeler check``; after the round's last tool come the chains (sequences of calls linked
+by returned values, :mod:`feeler.world`), growing like the drawn cases. Each later round draws more go cases per tool (``samples`` times
+``growth`` per round, up to ``max_samples``) with a new seed, through hypothesis, whose example database
+(:mod:`feeler.campaign.database`) replays earlier failing examples first. The steps of one rotation are
+the table :data:`ROTATION` (``cases``, then ``chains``): register another with :func:`rotation_step`.
+
+After every step the state (round, position, time used, findings, counters) is written atomically to
+``state.json`` in the campaign folder, next to the call log ``calls.jsonl``. Started again after an
+interruption, the campaign continues from that step with the findings it had; the time budget counts
+the time of every start. A finished campaign starts afresh next time (the example database stays).
+"""
+
+from __future__ import annotations
+
+import dataclasses
+import json
+import os
+import re
+import time
+from collections.abc import Callable
+from dataclasses import dataclass, field
+from typing import Any
+
+from feeler._files import write_text_atomic
+from feeler.errors import UsageError
+
+__all__ = ["ROTATION", "Campaign", "CampaignOptions", "parse_duration", "parse_shard", "rotation_step", "shard_tools"]
+
+STATE_FORMAT = "feeler-campaign/1"
+#: latency samples per tool kept in the state file (the report's percentiles after a resume use them)
+_STATE_DURATIONS = 2000
+
+
+def parse_duration(text: str) -> float:
+    """``90``, ``90s``, ``15m``, ``2h``, ``1h30m`` -> seconds."""
+    value = text.strip().lower()
+    if re.fullmatch(r"\d+(\.\d+)?", value):
+        return float(value)
+    parts = re.fullmatch(r"(?:(\d+)h)?(?:(\d+)m)?(?:(\d+(?:\.\d+)?)s)?", value)
+    if not value or parts is None or not any(parts.groups()):
+        raise UsageError(f"--budget {text!r}: expected a duration such as 90s, 15m, 2h or 1h30m")
+    h, m, s = parts.groups()
+    return int(h or 0) * 3600 + int(m or 0) * 60 + float(s or 0)
+
+
+def parse_shard(text: str | None) -> tuple[int, int] | None:
+    """``i/n`` (1-based) -> (i, n)."""
+    if not text:
+        return None
+    match = re.fullmatch(r"\s*(\d+)\s*/\s*(\d+)\s*", text)
+    if match is None or not 1 <= int(match.group(1)) <= int(match.group(2)):
+        raise UsageError(f"--shard {text!r}: expected i/n with 1 <= i <= n, e.g. 1/4")
+    return int(match.group(1)), int(match.group(2))
+
+
+def shard_tools(names: list[str], shard: tuple[int, int] | None) -> list[str]:
+    """The tools of one shard: sorted by name, the k-th (0-based) goes to shard ``k % n + 1``. Every tool
+    is in exactly one shard, whatever order the server lists them in."""
+    ordered = sorted(names)
+    if shard is None:
+        return ordered
+    index, count = shard
+    return [name for k, name in enumerate(ordered) if k % count == index - 1]
+
+
+@dataclass
+class CampaignOptions:
+    """How long and how a campaign runs.
+
+    :param budget: seconds for the whole campaign (every start of it counts).
+    :param folder: the campaign folder (state, call log); one per target and shard.
+    :param samples: drawn go cases per tool in round 0; round r draws ``samples * growth**r``.
+    :param example_db: a hypothesis ``ExampleDatabase`` or None.
+    """
+
+    budget: float
+    folder: str
+    shard: tuple[int, int] | None = None
+    samples: int = 20
+    growth: float = 2.0
+    max_samples: int = 2000
+    seed: int = 0
+    example_db: Any = None
+    example_db_name: str | None = None
+    fresh: bool = False
+
+
+#: A rotation step: ``step(campaign, tool, round)`` runs one tool's share of one round.
+RotationStep = Callable[["Campaign", Any, int], None]
+ROTATION: dict[str, RotationStep] = {}
+
+
+def rotation_step(name: str) -> Callable[[RotationStep], RotationStep]:
+    """Register a step of the rotation (run for each tool in each round, in registration order)."""
+
+    def register(func: RotationStep) -> RotationStep:
+        ROTATION[name] = func
+        return func
+
+    return register
+
+
+@rotation_step("cases")
+def _cases(campaign: Campaign, tool: Any, round_no: int) -> None:
+    """Round 0: every case kind, as ``feeler check``; later rounds: more drawn go cases, a new seed."""
+    runner = campaign.runner
+    if round_no == 0:
+        runner.options.samples = campaign.options.samples
+        runner.run_tool(tool)
+        return
+    stats = runner.stats(tool)
+    if stats.skipped or stats.schema_problem or runner.skip_reason(tool) or stats.timeouts >= runner.options.max_timeouts_per_tool:
+        return
+    from feeler.generate import arguments
+
+    runner.options.samples = campaign.samples_for(round_no)
+    runner.options.sample_seed = campaign.options.seed + round_no
+    runner._drawn_go(tool, stats, arguments(tool.input_schema))
+
+
+#: chain runs per round grow like the drawn cases, up to this many
+MAX_CHAIN_RUNS = 400
+
+
+@rotation_step("chains")
+def _chains(campaign: Campaign, tool: Any, round_no: int) -> None:
+    """Once per round, after its last tool: chains of calls linked by returned values (feeler.world).
+    Chains cross tools, so with --shard only shard 1 runs them."""
+    runner = campaign.runner
+    if campaign.position != len(campaign.tool_names) - 1 or runner.options.chain_runs <= 0:
+        return
+    if campaign.options.shard is not None and campaign.options.shard[0] != 1:
+        return
+    runs = min(MAX_CHAIN_RUNS, int(runner.options.chain_runs * campaign.options.growth**round_no))
+    runner.world.discover(runner)
+    runner.world.chains(runner, runs=runs, steps=runner.options.chain_steps)
+
+
+class Campaign:
+    """One campaign against one target (a :class:`~feeler.check.runner.Runner` underneath).
+
+    :param on_call: called after each call (after the call log), e.g. for live progress.
+    """
+
+    def __init__(self, runner: Any, options: CampaignOptions, *, on_call: Callable[..., None] | None = None) -> None:
+        from feeler.campaign.calllog import CallLog
+
+        self.runner = runner
+        self.options = options
+        self.state_path = os.path.join(options.folder, "state.json")
+        self.log_path = os.path.join(options.folder, "calls.jsonl")
+        runner.options.example_db = options.example_db
+        self.round = 0
+        self.position = 0
+        self.used = 0.0  # seconds spent by earlier starts
+        self.resumed = 0
+        self.calls = 0
+        self.started_at: str | None = None
+        self.tool_names: list[str] = []
+        self._load()
+        self.log = CallLog(self.log_path)
+        self._extra_on_call = on_call
+        self._clock = time.monotonic()
+        runner.on_call = self._on_call
+
+    # -- state ---------------------------------------------------------------------------------------
+    def _load(self) -> None:
+        from feeler.check.findings import Finding
+
+        if self.options.fresh or not os.path.exists(self.state_path):
+            self._start_afresh()
+            return
+        from feeler._read import read_json
+
+        state = read_json(self.state_path, what="the campaign state", fix="delete it or pass --fresh to start afresh")
+        if state.get("format") != STATE_FORMAT or state.get("done"):
+            self._start_afresh()
+            return
+        self.round, self.position = state["round"], state["position"]
+        self.used, self.calls = state["used"], state["calls"]
+        self.resumed = state["resumed"] + 1
+        self.started_at = state["startedAt"]
+        self.tool_names = state["tools"]
+        self.runner.report.restarts = state.get("restarts", 0)
+        for data in state["findings"]:
+            self.runner.report.findings.add(Finding(**data))
+        for data in state["stats"]:
+            self.runner.report.tools[data["name"]] = _stats_from(data)
+
+    def _start_afresh(self) -> None:
+        from feeler.report.document import now_iso
+
+        for path in (self.state_path, self.log_path):
+            if os.path.exists(path):
+                os.unlink(path)
+        self.started_at = now_iso()
+
+    def save(self, *, done: bool = False) -> None:
+        """Write the state atomically (a kill mid-write leaves the previous state whole)."""
+        runner = self.runner
+        state = {
+            "format": STATE_FORMAT,
+            "target": runner.target.name,
+            "shard": list(self.options.shard) if self.options.shard else None,
+            "startedAt": self.started_at,
+            "round": self.round,
+            "position": self.position,
+            "used": round(self.elapsed(), 3),
+            "calls": self.calls,
+            "resumed": self.resumed,
+            "done": done,
+            "tools": self.tool_names,
+            "restarts": runner.report.restarts,
+            "findings": [_finding_data(f) for f in runner.report.findings],
+            "stats": [_stats_data(s) for s in runner.report.tools.values()],
+        }
+        write_text_atomic(self.state_path, json.dumps(state, ensure_ascii=False, default=str) + "\n")
+
+    # -- time and growth -----------------------------------------------------------------------------
+    def elapsed(self) -> float:
+        return self.used + (time.monotonic() - self._clock)
+
+    def remaining(self) -> float:
+        return max(0.0, self.options.budget - self.elapsed())
+
+    def rate(self) -> float:
+        """Calls per second so far in this start."""
+        spent = time.monotonic() - self._clock
+        return self.log.lines / spent if spent > 0 else 0.0
+
+    def samples_for(self, round_no: int) -> int:
+        """Drawn go cases for one tool in *round_no*: grown, capped, and small enough for the time left."""
+        grown = min(self.options.max_samples, int(self.options.samples * self.options.growth**round_no))
+        rate = self.rate()
+        tools = max(1, len(self.tool_names))
+        if rate > 0:
+            grown = min(grown, max(1, int(self.remaining() * rate / tools)))
+        return max(1, grown)
+
+    def _on_call(self, tool: Any, case: Any, ctx: Any, failed: list[str]) -> None:
+        self.log.hook(tool, case, ctx, failed)
+        self.calls += 1
+        if self._extra_on_call is not None:
+            self._extra_on_call(self)
+        if self.remaining() <= 0:
+            raise _BudgetSpent()
+
+    # -- the run -------------------------------------------------------------------------------------
+    def run(self) -> Any:
+        """Rotate until the budget is spent; returns the runner's :class:`RunReport`. An interruption
+        (KeyboardInterrupt) saves the state first and is raised again."""
+        runner = self.runner
+        try:
+            runner.open()
+            tools = {t.name: t for t in runner.tools()}
+            if not self.tool_names:
+                self.tool_names = shard_tools(list(tools), self.options.shard)
+                self.save()
+            while self.remaining() > 0 and self.tool_names:
+                name = self.tool_names[self.position]
+                tool = tools.get(name)
+                if tool is not None:
+                    for step in list(ROTATION.values()):
+                        step(self, tool, self.round)
+                self.position += 1
+                if self.position >= len(self.tool_names):
+                    self.position, self.round = 0, self.round + 1
+                self.save()
+        except _BudgetSpent:
+            pass
+        except BaseException:
+            self._finish(done=False)
+            raise
+        self._finish(done=True)
+        return runner.report
+
+    def _finish(self, *, done: bool) -> None:
+        try:
+            self.runner.close()
+        finally:
+            self.runner._write_replays()
+            self.save(done=done)
+            self.log.close()
+
+    def summary(self) -> dict[str, Any]:
+        """The ``campaign`` object of the report document."""
+        return {
+            "budgetSeconds": self.options.budget,
+            "rounds": self.round,
+            "resumed": self.resumed,
+            "callLog": self.log_path,
+            "exampleDatabase": self.options.example_db_name,
+        }
+
+
+class _BudgetSpent(BaseException):
+    """Raised from the call hook when the budget is spent, to stop mid-step. A BaseException, so that
+    hypothesis passes it on at once instead of shrinking it as a failure."""
+
+
+def _finding_data(finding: Any) -> dict[str, Any]:
+    return {f.name: getattr(finding, f.name) for f in dataclasses.fields(finding)}
+
+
+#: not kept across a resume: cases and bases are remade, the world summary starts again each run
+_STATS_SKIP = ("cases", "coverage", "durations", "world", "bases")
+
+
+def _stats_data(stats: Any) -> dict[str, Any]:
+    data = {f.name: getattr(stats, f.name) for f in dataclasses.fields(stats) if f.name not in _STATS_SKIP}
+    data["durations"] = stats.durations[-_STATE_DURATIONS:]
+    data["coverage"] = [dataclasses.asdict(c) for c in stats.coverage]
+    return data
+
+
+def _stats_from(data: dict[str, Any]) -> Any:
+    from feeler.check.runner import ToolStats
+    from feeler.generate.coverage import KeywordCoverage
+
+    data = dict(data)
+    coverage = [KeywordCoverage(**c) for c in data.pop("coverage", [])]
+    names = {f.name for f in dataclasses.fields(ToolStats)}
+    stats = ToolStats(**{k: v for k, v in data.items() if k in names})
+    stats.coverage = coverage
+    return stats

@@ -1,0 +1,168 @@
+"""The report document: built from a run, validated against the shipped JSON Schema."""
+
+from __future__ import annotations
+
+import json
+import math
+from datetime import datetime, timezone
+from importlib import resources
+from typing import TYPE_CHECKING, Any
+
+from feeler.errors import UsageError
+
+if TYPE_CHECKING:
+    from feeler.check.runner import RunReport, ToolStats
+
+__all__ = ["LATENCY_BOUNDS", "REPORT_FORMAT", "build_report", "latency_summary", "load_report", "report_schema", "validate_report"]
+
+REPORT_FORMAT = "feeler-report/1"
+#: Upper bounds (seconds) of the latency histogram; the same in every report so that reports merge exactly.
+LATENCY_BOUNDS: tuple[float, ...] = (
+    0.0005, 0.001, 0.002, 0.005, 0.01, 0.02, 0.05, 0.1, 0.2, 0.5, 1.0, 2.0, 5.0, 10.0, 30.0,
+)  # fmt: skip
+
+
+def now_iso() -> str:
+    return datetime.now(timezone.utc).strftime("%Y-%m-%dT%H:%M:%SZ")
+
+
+def _percentile(ordered: list[float], q: float) -> float | None:
+    # Nearest rank (common practice): the smallest value with at least q of the values at or below it.
+    if not ordered:
+        return None
+    return ordered[max(0, math.ceil(q * len(ordered)) - 1)]
+
+
+def latency_summary(durations: list[float]) -> dict[str, Any]:
+    """Count, p50/p95/p99, max and the fixed-bound histogram of *durations* (seconds)."""
+    ordered = sorted(durations)
+    counts = [0] * (len(LATENCY_BOUNDS) + 1)
+    for value in ordered:
+        counts[next((i for i, bound in enumerate(LATENCY_BOUNDS) if value <= bound), len(LATENCY_BOUNDS))] += 1
+    return {
+        "count": len(ordered),
+        "p50": _percentile(ordered, 0.50),
+        "p95": _percentile(ordered, 0.95),
+        "p99": _percentile(ordered, 0.99),
+        "max": ordered[-1] if ordered else None,
+        "buckets": [{"le": bound, "count": n} for bound, n in zip((*LATENCY_BOUNDS, None), counts)],
+    }
+
+
+def _coverage(stats: ToolStats) -> dict[str, Any] | None:
+    if not stats.coverage:
+        return None
+    gaps = []
+    both = 0
+    for item in stats.coverage:
+        go, nogo = bool(getattr(item, "go", 0)), bool(getattr(item, "nogo", getattr(item, "no_go", 0)))
+        if go and nogo:
+            both += 1
+            continue
+        node = getattr(item, "schema_path", getattr(item, "keyword_location", ""))
+        location = node if str(node).endswith("/" + item.keyword) else f"{node}/{item.keyword}"
+        gaps.append({"keywordLocation": location, "keyword": item.keyword, "go": go, "noGo": nogo, "reason": item.reason})
+    return {"keywords": len(stats.coverage), "gaugedBothEnds": both, "gaps": gaps}
+
+
+def _tool(stats: ToolStats, findings: int) -> dict[str, Any]:
+    return {
+        "name": stats.name,
+        "skipped": stats.skipped,
+        "annotated": stats.annotated,
+        "schemaProblem": stats.schema_problem,
+        "calls": stats.go_calls + stats.nogo_calls,
+        "go": {"calls": stats.go_calls, "entered": stats.go_entered, "stopped": stats.go_is_error},
+        "noGo": {
+            "calls": stats.nogo_calls,
+            "stoppedByCode": stats.nogo_stopped_protocol,
+            "stoppedByIsError": stats.nogo_stopped_is_error,
+            "entered": stats.nogo_entered,
+        },
+        "probes": stats.probes,
+        "timeouts": stats.timeouts,
+        "findings": findings,
+        "latency": latency_summary(stats.durations),
+        "coverage": _coverage(stats),
+    }
+
+
+def _finding(finding: Any) -> dict[str, Any]:
+    data = dict(finding.to_json())
+    data.setdefault("signature", finding.signature)
+    replay = data.get("replay")
+    data["replayCommand"] = f"feeler replay {replay}" if replay else None
+    return data
+
+
+def build_report(
+    run: RunReport,
+    *,
+    command: str = "check",
+    started_at: str | None = None,
+    finished_at: str | None = None,
+    duration: float | None = None,
+    shard: tuple[int, int] | None = None,
+    campaign: dict[str, Any] | None = None,
+) -> dict[str, Any]:
+    """The report document of *run* (a :class:`~feeler.check.runner.RunReport`)."""
+    from feeler import __version__
+
+    cat = run.catalog
+    findings = [_finding(f) for f in run.findings]
+    per_tool: dict[str | None, int] = {}
+    for f in findings:
+        per_tool[f.get("tool")] = per_tool.get(f.get("tool"), 0) + 1
+    tools = [_tool(s, per_tool.get(name, 0)) for name, s in sorted(run.tools.items())]
+    errors = sum(1 for f in findings if f["severity"] == "error")
+    finished = finished_at or now_iso()
+    doc: dict[str, Any] = {
+        "format": REPORT_FORMAT,
+        "feelerVersion": __version__,
+        "command": command,
+        "target": run.target.name,
+        "server": dict(cat.server) if cat else None,
+        "protocolVersion": cat.revision if cat else None,
+        "era": cat.era if cat else None,
+        "startedAt": started_at or finished,
+        "finishedAt": finished,
+        "durationSeconds": round(duration, 3) if duration is not None else 0.0,
+        "shard": {"index": shard[0], "count": shard[1]} if shard else None,
+        "totals": {
+            "calls": sum(t["calls"] for t in tools),
+            "findings": len(findings),
+            "errors": errors,
+            "warnings": len(findings) - errors,
+            "tools": len(tools),
+            "restarts": run.restarts,
+        },
+        "tools": tools,
+        "findings": findings,
+    }
+    if campaign is not None:
+        doc["campaign"] = campaign
+    return doc
+
+
+def report_schema() -> dict[str, Any]:
+    """The JSON Schema (2020-12) of the report document, as shipped in the package."""
+    text = resources.files("feeler.report").joinpath("schema/report.schema.json").read_text(encoding="utf-8")
+    return json.loads(text)  # type: ignore[no-any-return]
+
+
+def validate_report(doc: Any) -> list[str]:
+    """Problems of *doc* against the report schema (``jsonschema``, Draft 2020-12); empty when valid."""
+    from jsonschema import Draft202012Validator
+
+    validator = Draft202012Validator(report_schema(), format_checker=Draft202012Validator.FORMAT_CHECKER)
+    return [f"{'/'.join(map(str, e.absolute_path)) or '(root)'}: {e.message}" for e in validator.iter_errors(doc)]
+
+
+def load_report(path: str) -> dict[str, Any]:
+    """Read a report document; a user-facing error if it is not one."""
+    from feeler._files import read_json_file
+
+    doc = read_json_file(path, "report")
+    if not isinstance(doc, dict) or doc.get("format") != REPORT_FORMAT:
+        raise UsageError(f"{path}: not a feeler report (expected format {REPORT_FORMAT!r}); write one with --report-dir")
+    return doc

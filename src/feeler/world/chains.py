@@ -1,0 +1,347 @@
+"""Call chains: sequences in which a later call's arguments come from an earlier answer.
+
+A chain run is hypothesis' stateful testing (``hypothesis.stateful.RuleBasedStateMachine``; see the
+hypothesis documentation, "Stateful tests"). The machine is built from the catalog:
+
+* one **bundle** ``learned`` holds :class:`Token` values taken from successful answers (the values
+  :func:`feeler.world.learn.answer_values` finds), each with the step and the place it came from, and the
+  input slots of other tools it fits (related name, oracle-accepted in that tool's base arguments);
+* per tool, a **plain rule** calls it with one of its base arguments (go cases the server accepted earlier
+  in the run, else generated go cases with the pool's values put in);
+* per tool and identifier-like input slot (``record_id``, ``booking_ref``, ``path``...), a **chained
+  rule** takes a token from the bundle that fits that slot and calls the tool with it.
+
+Destructive tools take part only when allowed. After each step the chain checks run (kind ``chain``,
+:mod:`feeler.world.invariants`): an identifier an earlier call returned must be accepted
+(``read_your_writes``), and a tool annotated ``idempotentHint`` is called a second time with the same
+arguments and must give the same outcome (``idempotent_repeat``). A failing step fails the machine, so
+hypothesis shrinks the sequence to the shortest one that still fails; that sequence becomes the
+finding's replay (:func:`replay_sequence` runs it again, taking each linked value from the new answers).
+"""
+
+from __future__ import annotations
+
+import json
+import re
+from collections.abc import Callable
+from dataclasses import dataclass, field
+from typing import TYPE_CHECKING, Any
+
+from feeler.catalog import Tool
+from feeler.check.registry import CHECKS, CallContext, Check, Problem
+from feeler.errors import RemoteProtocolError, RequestTimeout, ServerExited, TargetError
+from feeler.session import Session
+from feeler.world.apply import put_at, slots
+from feeler.world.invariants import ChainCase, outcome
+from feeler.world.learn import answer_values, value_at
+from feeler.world.names import PATH_WORDS, identifier_like, nouns, related, words
+
+if TYPE_CHECKING:
+    from feeler.check.runner import Runner
+
+__all__ = ["ChainFailure", "Step", "Token", "replay_sequence", "run_chains"]
+
+
+@dataclass(frozen=True)
+class Token:
+    """A value from an answer: made at step ``step``, found at ``place``/``inner`` of that answer."""
+
+    value: Any
+    step: int
+    tool: str
+    place: str
+    inner: str | None
+    fits: frozenset[tuple[str, str]]  # (tool, instanceLocation) slots it may fill
+
+    def describe(self) -> str:
+        where = self.place + (f" {self.inner}" if self.inner else "")
+        return f"{self.tool} {where} at step {self.step + 1}"
+
+    def __repr__(self) -> str:  # hypothesis prints the shrunk sequence with it
+        return f"Token({self.value!r} from {self.describe()})"
+
+
+@dataclass
+class Step:
+    """One call of a sequence, as the replay file holds it."""
+
+    tool: str
+    arguments: Any
+    links: dict[str, dict[str, Any]] = field(default_factory=dict)  # instanceLocation -> {step, place, inner}
+    outcome: str = ""
+    repeat: bool = False
+
+    def to_json(self) -> dict[str, Any]:
+        return {"tool": self.tool, "arguments": self.arguments, "links": self.links, "outcome": self.outcome,
+                "repeat": self.repeat}  # fmt: skip
+
+
+@dataclass
+class ChainFailure:
+    """The shortest failing sequence hypothesis found for one problem, and the context of its last step."""
+
+    check: str
+    problem: Problem
+    steps: list[Step]
+    ctx: CallContext
+
+
+_NON_WORD = re.compile(r"\W")
+
+
+class _ChainFailed(Exception):
+    pass
+
+
+_failure_types: dict[str, type[_ChainFailed]] = {}
+
+
+def _failure_type(name: str) -> type[_ChainFailed]:
+    # one exception type per check and tool, so hypothesis shrinks each distinct failure on its own
+    if name not in _failure_types:
+        _failure_types[name] = type("ChainFailed_" + _NON_WORD.sub("_", name), (_ChainFailed,), {})
+    return _failure_types[name]
+
+
+@dataclass(frozen=True)
+class _Slot:
+    tool: str
+    pointer: str
+    name: str
+
+
+def _call(runner: Runner, tool: Tool, arguments: Any) -> CallContext:
+    ctx = CallContext("chain", tool, runner.revision, runner.era, runner.settings)
+    try:
+        ctx.exchange = runner.open().call_tool(tool.name, arguments)
+    except RemoteProtocolError as exc:
+        if exc.exchange is not None:
+            ctx.exchange = exc.exchange
+        else:
+            ctx.failure = exc
+    except (RequestTimeout, ServerExited, TargetError) as exc:
+        ctx.failure = exc
+    if isinstance(ctx.failure, ServerExited):
+        runner._restart()
+    if runner.on_call is not None:  # the call log (and a campaign's budget) see chain calls too
+        runner.on_call(tool, _ChainCall(arguments), ctx, [])
+    return ctx
+
+
+@dataclass(frozen=True)
+class _ChainCall:
+    """What the runner's call hook reads of a case, for one step of a chain."""
+
+    arguments: Any
+    kind: str = "chain"
+    source: str = "chain"
+
+
+def _run_checks(checks: list[Check], ctx: CallContext) -> list[tuple[str, Problem]]:
+    return [(check.name, problem) for check in checks for problem in check.run(ctx) if problem.severity == "error"]
+
+
+class _Plan:
+    """What the machine is built from: the chain's tools, their base arguments and their slots."""
+
+    def __init__(self, runner: Runner, tools: list[Tool], bases: dict[str, list[Any]]) -> None:
+        from feeler.generate import compile_schema
+
+        self.runner = runner
+        self.tools = {t.name: t for t in tools}
+        self.bases = bases
+        self.schemas = {t.name: compile_schema(t.input_schema) for t in tools}
+        self.nouns = {t.name: nouns(t.name) for t in tools}
+        self.slots: list[_Slot] = []
+        for tool in tools:
+            for slot in slots(self.schemas[tool.name], bases[tool.name][0]):
+                if identifier_like(slot.name) and not slot.pointer.count("/") > 2:
+                    self.slots.append(_Slot(tool.name, slot.pointer, slot.name))
+        self.checks = [c for c in runner.checks if "chain" in c.applies_to]
+
+    def fits(self, found: Any) -> frozenset[tuple[str, str]]:
+        out = set()
+        for slot in self.slots:
+            if found.kind is not None:
+                ok = found.kind == ("path" if words(slot.name)[-1] in PATH_WORDS else "id")
+            else:
+                ok = related(slot.name, found.name or "", found.context, self.nouns[slot.tool])
+            if ok and self.schemas[slot.tool].is_valid(_put(self.bases[slot.tool][0], slot.pointer, found.value)):
+                out.add((slot.tool, slot.pointer))
+        return frozenset(out)
+
+
+def _put(arguments: Any, pointer: str, value: Any) -> Any:
+    try:
+        return put_at(arguments, pointer, value)
+    except (KeyError, TypeError):
+        return arguments
+
+
+def _machine(plan: _Plan, failures: dict[str, ChainFailure]) -> type:
+    from hypothesis import strategies as st
+    from hypothesis.stateful import Bundle, RuleBasedStateMachine, multiple, precondition, rule
+
+    learned: Any = Bundle("learned")
+
+    def step(self: Any, tool_name: str, base: int, token: Token | None, slot: _Slot | None) -> Any:
+        tool = plan.tools[tool_name]
+        arguments = plan.bases[tool_name][base]
+        links: dict[str, dict[str, Any]] = {}
+        case = ChainCase(arguments)
+        if token is not None and slot is not None:
+            arguments = _put(arguments, slot.pointer, token.value)
+            if not plan.schemas[tool_name].is_valid(arguments) or token.value in self.dead:
+                return multiple()
+            links[slot.pointer] = {"step": token.step, "place": token.place, "inner": token.inner}
+            case = ChainCase(arguments, slot.pointer, identifier_like(slot.name), token.describe())
+        ctx = _call(plan.runner, tool, arguments)
+        ctx.case = case
+        record = Step(tool_name, arguments, links, outcome(ctx))
+        self.steps.append(record)
+        problems = _run_checks(plan.checks, ctx)
+        if not problems and tool.annotations.get("idempotentHint") is True:
+            again = _call(plan.runner, tool, arguments)
+            again.case = ChainCase(arguments, case.path, case.judged, case.origin, first=record.outcome)
+            record.repeat = True
+            problems = _run_checks(plan.checks, again)
+            ctx = again if problems else ctx
+        if problems:
+            name, problem = problems[0]
+            key = f"{name}|{tool_name}|{problem.error_class}"
+            failures[key] = ChainFailure(name, problem, [Step(**vars(s)) for s in self.steps], ctx)
+            raise _failure_type(key)(f"[{name}] {tool_name}: {problem.message}")
+        if tool.destructive:
+            self.dead.update(v for v in _scalars(arguments))
+        if record.outcome != "entered" or ctx.exchange is None:
+            return multiple()
+        index = len(self.steps) - 1
+        tokens = []
+        for found in answer_values(tool_name, ctx.exchange.result, max_values=100):
+            fits = plan.fits(found)
+            if fits:
+                tokens.append(Token(found.value, index, tool_name, found.place, found.inner, fits))
+        self.tokens.extend(tokens[:20])
+        return multiple(*tokens[:20])
+
+    namespace: dict[str, Any] = {"learned": learned}
+
+    def init(self: Any) -> None:
+        RuleBasedStateMachine.__init__(self)
+        self.steps = []
+        self.dead = set()
+        self.tokens = []  # the bundle's values, for the preconditions
+
+    namespace["__init__"] = init
+    for name in plan.tools:
+        count = len(plan.bases[name])
+
+        def plain(self: Any, base: int, _name: str = name) -> Any:
+            return step(self, _name, base, None, None)
+
+        namespace[f"call_{name}"] = rule(target=learned, base=st.integers(0, count - 1))(plain)
+    for slot in plan.slots:
+        count = len(plan.bases[slot.tool])
+        wanted = (slot.tool, slot.pointer)
+
+        def chained(self: Any, token: Token, base: int, _slot: _Slot = slot) -> Any:
+            return step(self, _slot.tool, base, token, _slot)
+
+        def has(self: Any, _wanted: tuple[str, str] = wanted) -> bool:
+            return any(_wanted in t.fits for t in self.tokens)
+
+        token_strategy = learned.filter(lambda t, _wanted=wanted: _wanted in t.fits)
+        decorated = rule(target=learned, token=token_strategy, base=st.integers(0, count - 1))(chained)
+        namespace[f"chain_{slot.tool}" + _NON_WORD.sub("_", slot.pointer)] = precondition(has)(decorated)
+    return type("FeelerChains", (RuleBasedStateMachine,), namespace)
+
+
+def _scalars(value: Any) -> list[Any]:
+    if isinstance(value, dict):
+        return [s for v in value.values() for s in _scalars(v)]
+    if isinstance(value, list):
+        return [s for v in value for s in _scalars(v)]
+    return [value] if isinstance(value, (str, int)) and not isinstance(value, bool) else []
+
+
+def run_chains(
+    runner: Runner, tools: list[Tool], bases: dict[str, list[Any]], *, runs: int, steps: int, shrink: bool = True
+) -> list[ChainFailure]:
+    """Run chains over *tools* (each with at least one base argument in *bases*); return the failures,
+    each with the shortest sequence hypothesis found."""
+    from hypothesis import HealthCheck, Phase, Verbosity, settings
+    from hypothesis.errors import Flaky
+    from hypothesis.stateful import run_state_machine_as_test
+
+    tools = [t for t in tools if bases.get(t.name)]
+    if not tools or runs <= 0:
+        return []
+    plan = _Plan(runner, tools, bases)
+    if not plan.checks:
+        return []
+    failures: dict[str, ChainFailure] = {}
+    machine = _machine(plan, failures)
+    phases = [Phase.generate, Phase.shrink] if shrink else [Phase.generate]
+    config = settings(max_examples=runs, stateful_step_count=steps, deadline=None, database=None, derandomize=True,
+                      phases=phases, suppress_health_check=list(HealthCheck), verbosity=Verbosity.quiet,
+                      report_multiple_bugs=True)  # fmt: skip
+    try:
+        run_state_machine_as_test(machine, settings=config)
+    except (_ChainFailed, Flaky):
+        pass
+    except BaseException as exc:  # an exception group of several distinct failures
+        inner = getattr(exc, "exceptions", None)
+        if not inner or not all(isinstance(e, (_ChainFailed, Flaky)) for e in inner):
+            raise
+    return list(failures.values())
+
+
+# -- replay ---------------------------------------------------------------------------------------
+
+
+def replay_sequence(session: Session, data: dict[str, Any], make_ctx: Callable[[Tool | None], CallContext], catalog: Any,
+                    timeout: float) -> tuple[str, str | None, list[Problem]]:  # fmt: skip
+    """Run a recorded sequence again on *session*, taking each linked value from the new answers; run the
+    finding's check on the last step. Returns the last request, its answer and the problems found."""
+    sequence = data["sequence"]
+    finding = data["finding"]
+    check = CHECKS.get(finding.get("check", ""))
+    results: list[Any] = []
+    request, answer, problems = "", None, []
+    for index, raw in enumerate(sequence):
+        arguments = raw["arguments"]
+        origin = ""
+        for pointer, link in (raw.get("links") or {}).items():
+            earlier = results[link["step"]] if link["step"] < len(results) else None
+            found, value = value_at(earlier, link["place"], link.get("inner"))
+            if found:
+                arguments = _put(arguments, pointer, value)
+            origin = f"{sequence[link['step']]['tool']} {link['place']} at step {link['step'] + 1}"
+        try:
+            tool = catalog.tool(raw["tool"])
+        except KeyError:
+            tool = Tool({"name": raw["tool"]})
+        last = index == len(sequence) - 1
+        ctx = make_ctx(tool)
+        try:
+            ctx.exchange = session.call_tool(raw["tool"], arguments, timeout=timeout)
+        except TargetError as exc:
+            ctx.failure = exc
+        results.append(ctx.exchange.result if ctx.exchange is not None else None)
+        pointer = next(iter(raw.get("links") or {}), "")
+        ctx.case = ChainCase(arguments, pointer, bool(pointer) and identifier_like(pointer.rsplit("/", 1)[-1]), origin)
+        if raw.get("repeat") and last:
+            first = outcome(ctx)
+            ctx = make_ctx(tool)
+            try:
+                ctx.exchange = session.call_tool(raw["tool"], arguments, timeout=timeout)
+            except TargetError as exc:
+                ctx.failure = exc
+            ctx.case = ChainCase(arguments, pointer, False, origin, first=first)
+        if last:
+            request = ctx.exchange.request_text if ctx.exchange is not None else json.dumps(arguments)
+            frames = [f.text for f in ctx.exchange.frames if f.direction == "in"] if ctx.exchange is not None else []
+            answer = frames[-1] if frames else None
+            problems = check.run(ctx) if check is not None else []
+    return request, answer, problems
+
