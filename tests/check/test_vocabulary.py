@@ -21,7 +21,7 @@ VOCABULARY: dict[str, tuple[str, tuple[str, ...]]] = {
     "check: go cases must be accepted": ("go_enters", ("go_accepted",)),
     "check: no-go cases must be stopped": ("nogo_stops", ("nogo_rejected",)),
     "check: a tool accepts some go case": ("gate_opens", ("accepts_some_go",)),
-    "how many cases": ("--depth", ("--feeler-profile", "nightly", "profile")),
+    "how many cases": ("--depth", ("--feeler-profile", "--profile", "profile =")),
     "sampled go cases per tool": ("--samples", ("--go-examples", "go_examples", "drawn")),
     "seed of sampled cases": ("--sample-seed", ("--seed ",)),
     "isError on a go case is a finding": ("--strict-go", ("--strict ", "--feeler-strict ")),
