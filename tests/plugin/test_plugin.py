@@ -93,9 +93,9 @@ def test_session_fixture_for_hand_written_tests(pytester: pytest.Pytester) -> No
             assert "quote_fee" in {t["name"] for t in tools}
         """
     )
-    result = pytester.runpytest_subprocess("-p", "no:cacheprovider", "-q", "--feeler-off", "test_mine.py")
-    # --feeler-off adds no items, and the fixture then skips with a reason
-    result.assert_outcomes(skipped=1)
+    result = pytester.runpytest_subprocess("-p", "no:cacheprovider", "-q", "--feeler-off")
+    # --feeler-off turns off the generated items only: the hand-written test still gets its session
+    result.assert_outcomes(passed=1)
     result = pytester.runpytest_subprocess("-p", "no:cacheprovider", "-q", "test_mine.py", "-k", "test_lists")
     result.assert_outcomes(passed=1)
 
@@ -151,3 +151,42 @@ def test_catalog_item_compares_recorded_outputs(pytester: pytest.Pytester, monke
     result.assert_outcomes(passed=1)
     result = pytester.runpytest_subprocess("-p", "no:cacheprovider", "-q", "-k", "catalog")
     result.assert_outcomes(passed=1)
+
+
+def test_a_file_given_on_the_command_line_runs_no_feeler_items(pytester: pytest.Pytester) -> None:
+    # pytest's own rule (docs "Specifying which tests to run"): paths given means only those are collected.
+    _project(pytester, "feeler.demo.server:server")
+    pytester.makepyfile(test_one="def test_one():\n    assert 1 + 1 == 2\n")
+    result = pytester.runpytest_subprocess("-p", "no:cacheprovider", "-q", "test_one.py")
+    result.assert_outcomes(passed=1)
+    assert not any("feeler::" in line for line in result.outlines)
+
+
+def test_a_missing_baseline_is_a_skip_with_the_command_that_creates_it(pytester: pytest.Pytester,
+                                                                         monkeypatch: pytest.MonkeyPatch) -> None:
+    import shlex
+    import subprocess
+    import sys
+
+    monkeypatch.delenv("PYTEST_XDIST_WORKER", raising=False)
+    _project(pytester, "feeler.demo.server:server")
+    result = pytester.runpytest_subprocess("-p", "no:cacheprovider", "-q", "-rs", "-k", "catalog")
+    result.assert_outcomes(skipped=1)
+    line = next(x for x in result.outlines if "create it with: " in x)
+    command = line.split("create it with: ", 1)[1].split("  (or:", 1)[0]
+    argv = shlex.split(command)
+    assert argv[0] == "feeler"
+    done = subprocess.run([sys.executable, "-m", "feeler.cli", *argv[1:]], cwd=pytester.path, capture_output=True,
+                          text=True, timeout=120)
+    assert done.returncode == 0, done.stderr
+    result = pytester.runpytest_subprocess("-p", "no:cacheprovider", "-q", "-k", "catalog")
+    result.assert_outcomes(passed=1)
+
+
+def test_approve_under_xdist_refuses_with_a_clear_message(pytester: pytest.Pytester, monkeypatch: pytest.MonkeyPatch) -> None:
+    monkeypatch.delenv("PYTEST_XDIST_WORKER", raising=False)
+    _project(pytester, "feeler.demo.server:server")
+    result = pytester.runpytest_subprocess("-p", "no:cacheprovider", "-q", "-n", "1", "-k", "catalog", "--feeler-approve")
+    result.assert_outcomes(failed=1)
+    assert any("writes baselines from one process only" in line for line in result.outlines)
+    assert not (pytester.path / "baselines").exists()

@@ -63,7 +63,7 @@ def _terminate(_signum: int, _frame: Any) -> None:
 @click.option("--budget", required=True, metavar="DURATION", help="Time for the whole campaign: 90s, 15m, 2h, 1h30m.")
 @click.option("--shard", default=None, metavar="i/n", help="Run only shard i of n (tools split by name; every tool in one shard).")
 @click.option("--samples", type=click.IntRange(min=1), default=20, show_default=True, help="Drawn go cases per tool in the first round (doubles each round).")
-@click.option("--max-samples", type=click.IntRange(min=1), default=2000, show_default=True, help="Most drawn go cases per tool in one round.")
+@click.option("--max-samples", type=click.IntRange(min=1), default=2000, show_default=True, help="Most sampled go cases per tool in one round.")
 @click.option("--example-db", default=None, metavar="DIR|redis://HOST:PORT/N|none",
               help="hypothesis example database: failing examples are retried first next time [.feeler/examples].")
 @click.option("--folder", default=None, metavar="DIR", help="Campaign folder: state and call log [.feeler/campaigns/TARGET[-shard-i-of-n]].")

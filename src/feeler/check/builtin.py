@@ -126,7 +126,7 @@ def _shape_errors(method: str, revision: str, result: Any) -> list[str]:
 
 @register("result_shape", applies_to=("go", "no-go"), reference="MCP <revision> server/tools (CallToolResult); mcp-types")
 def result_shape(ctx: CallContext) -> Iterator[Problem]:
-    """A tools/call result has the shape the negotiated revision defines (content blocks, isError, resultType)."""
+    """A tools/call result has the shape the negotiated protocol version defines (content blocks, isError, resultType)."""
     ex = ctx.exchange
     if ex is None or not isinstance(ex.result, dict) or ex.input_required:
         return

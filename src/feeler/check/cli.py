@@ -199,10 +199,11 @@ def replay_command(file: str, timeout: float) -> int:
     click.echo(f"sent:     {red(outcome.request)}")
     click.echo(f"answer:   {red(str(outcome.answer))}")
     finding = data["finding"]
+    click.echo(red(f"finding:  [{finding.get('check')}] {finding.get('message')}"))
     if outcome.reproduced:
-        click.echo(red(f"reproduced: [{finding.get('check')}] {outcome.messages[0] if outcome.messages else finding.get('message')}"))
+        click.echo(red(f"reproduced: [{finding.get('check')}] {outcome.messages[0]}"))
         return 1
-    click.echo(red(f"not reproduced: [{finding.get('check')}] {finding.get('message')}"))
+    click.echo(red(f"not reproduced: [{finding.get('check')}] the answer no longer shows this problem"))
     return 0
 
 

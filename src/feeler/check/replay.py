@@ -31,7 +31,7 @@ OLD_REPLAY_FORMATS = ("feeler-replay/1",)
 SERVER_FOLDER = "_server"
 
 
-def write_replay(folder: str, target: Target, finding: Finding) -> str:
+def write_replay(folder: str, target: Target, finding: Finding, settings: Any = None) -> str:
     """Write the replay file of *finding* under *folder*/<target>/<tool or _server>/ and return its path."""
     data = {
         "format": REPLAY_FORMAT,
@@ -42,6 +42,8 @@ def write_replay(folder: str, target: Target, finding: Finding) -> str:
         "answer": finding.answer_text,
         "finding": {k: v for k, v in finding.to_json().items() if k != "replay"},
     }
+    if settings is not None:  # judged again with the same strictness and budgets (never the secrets)
+        data["settings"] = {"strictGo": bool(settings.strict_go), "latencyBudget": dict(settings.latency_budget)}
     if finding.extra.get("sequence"):
         data["sequence"] = finding.extra["sequence"]  # a chain: every call, linked by earlier answers
     tool_folder = target_slug(finding.tool) if finding.tool else SERVER_FOLDER
@@ -143,7 +145,13 @@ def replay(data: dict[str, Any], *, timeout: float = 30.0, target: Target | None
             probes = {p.name: p for p in protocol_probes(str(session.revision), finding.get("tool") or "tool", meta)}
             case = probes.get(probe_name, case)
         ctx_kind = "alive" if finding.get("check") == "server_alive" else kind
-        ctx = CallContext(ctx_kind, tool, str(session.revision), str(session.era), CheckSettings(secrets=redactor_for(tgt).values), case=case)
+        stored = data.get("settings") or {}
+        settings = CheckSettings(
+            strict_go=bool(stored.get("strictGo", False)),
+            latency_budget={str(k): float(v) for k, v in (stored.get("latencyBudget") or {}).items()},
+            secrets=redactor_for(tgt).values,
+        )
+        ctx = CallContext(ctx_kind, tool, str(session.revision), str(session.era), settings, case=case)
         if finding.get("check") == "bounds_honoured":
             ctx.base = "entered"  # the base (just inside the bound) entered when the finding was made
         answer = None
@@ -158,8 +166,9 @@ def replay(data: dict[str, Any], *, timeout: float = 30.0, target: Target | None
         except TargetError as exc:
             ctx.failure = exc
         problems = check.run(ctx) if check is not None else []
-        wanted = finding.get("signature", "").split("|")[-1]
+        wanted = finding.get("errorClass", str(finding.get("signature", "")).split("|")[-1])
         same = [p for p in problems if not wanted or p.error_class == wanted]
-        return ReplayOutcome(data["request"], answer, bool(same), [p.message for p in problems])
+        # The stored finding's own problem first: the answer may show other problems too.
+        return ReplayOutcome(data["request"], answer, bool(same), [p.message for p in same])
     finally:
         session.close()

@@ -671,7 +671,7 @@ class Runner:
             return
         for finding in self.report.findings:
             if finding.request_text:
-                finding.replay = write_replay(self.options.replay_dir, self.target, finding)
+                finding.replay = write_replay(self.options.replay_dir, self.target, finding, self.settings)
 
 
 def _leaves(exc: BaseException, depth: int = 0) -> list[BaseException]:
