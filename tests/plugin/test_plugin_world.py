@@ -55,5 +55,7 @@ def test_read_your_writes_defect_fails_the_chains_item(pytester: pytest.Pytester
     result = pytester.runpytest_subprocess("-p", "no:cacheprovider", "-q", "-rf", *workers)
     assert _failed(result) == {"chains"}, result.outlines
     assert any("[read_your_writes]" in line for line in result.outlines)
-    replays = list((pytester.path / "replays").rglob("read_your_writes-*.json"))
-    assert replays, "the chain finding has a replay file"
+    import json
+
+    replays = [json.loads(p.read_text(encoding="utf-8")) for p in (pytester.path / "replays").rglob("*.replay.json")]
+    assert any(r.get("sequence") and r["finding"]["check"] == "read_your_writes" for r in replays), "no chain replay file"
