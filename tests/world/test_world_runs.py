@@ -50,7 +50,7 @@ def test_without_values_one_hint_per_tool_and_no_attributable_verdict(tmp_path: 
     assert not [f for f in report["findings"] if f["kind"] == "go" and f["severity"] == "error"]
     for name in TOOLS:
         tool = report["tools"][name]
-        assert tool["goAccepted"] == 0 and tool["nogoCalls"] > 0
+        assert tool["goEntered"] == 0 and tool["nogoCalls"] > 0
         assert tool["nogoVerdicts"]["stopped"] == 0 and tool["nogoVerdicts"]["unattributed"] == tool["nogoCalls"]
         assert tool["attributableShare"] == 0
     assert not _by(report, *NOGO)  # the planted type defect stays behind the gate
@@ -64,7 +64,7 @@ def test_with_the_root_every_tool_enters_and_the_type_defect_shows(tmp_path: Pat
     assert not _by(report, "values_needed") and not _by(report, *GATE)
     for name in TOOLS:
         tool = report["tools"][name]
-        assert tool["goAccepted"] > 0 and tool["enteredBySource"].get("known", 0) > 0
+        assert tool["goEntered"] > 0 and tool["enteredBySource"].get("known", 0) > 0
         assert tool["attributableShare"] > 0.9
     [defect] = _by(report, *NOGO)
     assert defect["tool"] == "list_entries" and defect["keyword"] == "type" and _location(defect) == "/depth"
