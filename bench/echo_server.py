@@ -18,6 +18,29 @@ TOOL = {
     "inputSchema": {"type": "object", "properties": {"text": {"type": "string"}}, "required": ["text"]},
 }
 
+#: a nested-schema tool (bench/run): the server answers every call to it with "ok", validating nothing
+NESTED = {
+    "name": "order",
+    "description": "Take an order.",
+    "inputSchema": {
+        "type": "object",
+        "properties": {
+            "id": {"type": "integer", "minimum": 0},
+            "lines": {
+                "type": "array",
+                "maxItems": 5,
+                "items": {
+                    "type": "object",
+                    "properties": {"sku": {"type": "string", "maxLength": 12}, "qty": {"type": "integer", "minimum": 1, "maximum": 99}},
+                    "required": ["sku", "qty"],
+                },
+            },
+            "note": {"type": "string"},
+        },
+        "required": ["id", "lines"],
+    },
+}
+
 
 def answer(message: dict) -> dict | None:
     method, rid = message.get("method"), message.get("id")
@@ -31,9 +54,10 @@ def answer(message: dict) -> dict | None:
             "serverInfo": {"name": "bench-echo", "version": "1"},
         }
     elif method == "tools/list":
-        result = {"tools": [TOOL]}
+        result = {"tools": [TOOL, NESTED]}
     elif method == "tools/call":
-        text = (message.get("params", {}).get("arguments") or {}).get("text", "")
+        arguments = message.get("params", {}).get("arguments") or {}
+        text = arguments.get("text", "") if isinstance(arguments, dict) else ""
         result = {"content": [{"type": "text", "text": text}]}
     elif method == "ping":
         result = {}

@@ -8,6 +8,7 @@ behaves as its name says. Every process is started in its own process group and 
 
 from __future__ import annotations
 
+import contextlib
 import json
 import os
 import re
@@ -508,3 +509,126 @@ def test_bearer_http_refuses_to_start_without_token() -> None:
             os.killpg(proc.pid, signal.SIGKILL)
         except ProcessLookupError:
             pass
+
+
+# --- fault servers (issue 13): each does what its name says, driven by raw JSON lines ------------------
+
+BAD_CALL = {"name": "bad", "arguments": {"text": "hi"}}
+
+
+def test_closes_stdout(tmp_path: Path) -> None:
+    with started(tmp_path, script("closes_stdout")) as wire:
+        wire.handshake()
+        wire.request("tools/call", BAD_CALL)
+        assert wire.line(timeout=5.0) is None  # end of output: stdout is closed
+        assert wire.proc.poll() is None  # ... and the process keeps running
+
+
+def test_floods_stderr(tmp_path: Path) -> None:
+    with started(tmp_path, script("floods_stderr"), env={"FEELER_FLOOD_MIB": "2"}) as wire:
+        wire.handshake()
+        answer = wire.call("tools/call", {"name": "echo", "arguments": {"text": "hi"}})
+        assert tool_result(answer)["content"][0]["text"] == "hi"
+        assert wire.stderr().count("flood: ") >= 2 * 1024
+
+
+def test_answers_twice(tmp_path: Path) -> None:
+    with started(tmp_path, script("answers_twice")) as wire:
+        wire.handshake()
+        request_id = wire.request("tools/call", BAD_CALL)
+        # JSON-RPC 2.0 section 5: one response per request; this server sends two with the same id.
+        first, second = wire.message(), wire.message()
+        assert first["id"] == second["id"] == request_id
+
+
+def test_invalid_utf8(tmp_path: Path) -> None:
+    with started(tmp_path, script("invalid_utf8")) as wire:
+        wire.handshake()
+        wire.request("tools/call", BAD_CALL)
+        line = wire.line()
+        assert line is not None
+        with pytest.raises(UnicodeDecodeError):  # RFC 8259 section 8.1: JSON text exchanged MUST be UTF-8
+            line.decode("utf-8")
+
+
+def test_sometimes_slow(tmp_path: Path) -> None:
+    with started(tmp_path, script("sometimes_slow"), env={"FEELER_SLEEP_S": "1.5"}) as wire:
+        wire.handshake()
+        assert "result" in wire.call("tools/call", BAD_CALL)  # the first call is prompt
+        wire.request("tools/call", BAD_CALL)
+        assert wire.line(timeout=0.5) is None  # the second is late ...
+        assert json.loads(wire.line(timeout=5.0) or b"{}").get("result")  # ... but comes
+
+
+def test_wrong_jsonrpc_version(tmp_path: Path) -> None:
+    with started(tmp_path, script("wrong_jsonrpc_version")) as wire:
+        wire.handshake()
+        assert wire.call("tools/call", BAD_CALL)["jsonrpc"] == "1.0"  # JSON-RPC 2.0 section 5: MUST be "2.0"
+
+
+def test_result_and_error(tmp_path: Path) -> None:
+    with started(tmp_path, script("result_and_error")) as wire:
+        wire.handshake()
+        answer = wire.call("tools/call", BAD_CALL)
+        assert "result" in answer and "error" in answer  # JSON-RPC 2.0 section 5: exactly one of them
+
+
+def test_no_newline_then_hang(tmp_path: Path) -> None:
+    with started(tmp_path, script("no_newline_then_hang")) as wire:
+        wire.handshake()
+        wire.request("tools/call", BAD_CALL)
+        assert wire.line(timeout=1.0) is None  # the answer never ends with a newline
+        assert wire._buffer.startswith(b'{"jsonrpc"')  # ... though its bytes arrived
+        wire.request("ping")
+        assert wire.line(timeout=1.0) is None and wire.proc.poll() is None  # and nothing more comes
+
+
+def test_banner_line(tmp_path: Path) -> None:
+    with started(tmp_path, script("banner_line")) as wire:
+        banner = wire.line()
+        assert banner is not None and not banner.startswith(b"{")  # MCP basic/transports stdio: only MCP messages
+        assert wire.handshake()["result"]["serverInfo"]["name"] == "banner_line"
+
+
+def test_cursor_loops(tmp_path: Path) -> None:
+    with started(tmp_path, script("cursor_loops")) as wire:
+        wire.handshake()
+        cursors = [tool_result(wire.call("tools/list", {"cursor": f"c{i}"} if i else {}))["nextCursor"] for i in range(3)]
+        assert cursors == ["page-1", "page-2", "page-3"]  # MCP server/utilities/pagination: never ends
+
+
+def test_many_tools(tmp_path: Path) -> None:
+    with started(tmp_path, script("many_tools")) as wire:
+        wire.handshake()
+        tools = tool_result(wire.call("tools/list"))["tools"]
+        assert len(tools) == 2000 and tools[-1]["name"] == "echo_1999"
+
+
+def test_ignores_sigterm(tmp_path: Path) -> None:
+    with started(tmp_path, script("ignores_sigterm"), env={"FEELER_LINGER_S": "30"}) as wire:
+        wire.handshake()
+        os.killpg(wire.proc.pid, signal.SIGTERM)
+        assert wire.proc.stdin is not None
+        wire.proc.stdin.close()
+        assert wire.wait(1.0) is None  # still running after SIGTERM and the end of stdin
+
+
+def test_forks_grandchild(tmp_path: Path) -> None:
+    with started(tmp_path, script("forks_grandchild"), env={"FEELER_CHILD_S": "30"}) as wire:
+        wire.handshake()
+        found = re.search(r"escaped=(\d+) grouped=(\d+)", wire.stderr())
+        assert found, wire.stderr()
+        escaped, grouped = int(found.group(1)), int(found.group(2))
+        try:
+            assert os.getpgid(grouped) == wire.proc.pid  # setsid(2): the escaped one has its own group
+            assert os.getpgid(escaped) == escaped != wire.proc.pid
+        finally:
+            with contextlib.suppress(ProcessLookupError):
+                os.kill(escaped, signal.SIGKILL)  # the group kill in stop() does not reach it
+
+
+def test_string_tool_entry(tmp_path: Path) -> None:
+    with started(tmp_path, script("string_tool_entry")) as wire:
+        wire.handshake()
+        tools = tool_result(wire.call("tools/list"))["tools"]
+        assert tools[0] == "lookup" and tools[1]["name"] == "echo"  # MCP schema: entries are Tool objects

@@ -2,7 +2,6 @@
 
 from __future__ import annotations
 
-import json
 import os
 import tempfile
 from typing import Any
@@ -11,16 +10,12 @@ __all__ = ["read_json_file", "write_text_atomic"]
 
 
 def read_json_file(path: str, what: str) -> Any:
-    """The JSON value in *path*; a :class:`~feeler.errors.UsageError` naming *what* the file should be."""
-    from feeler.errors import UsageError
+    """The JSON value in *path*; a :class:`~feeler.errors.UsageError` naming *what* the file should be.
 
-    try:
-        with open(path, encoding="utf-8") as handle:
-            return json.load(handle)
-    except OSError as exc:
-        raise UsageError(f"cannot read the {what} {path}: {exc.strerror}") from exc
-    except json.JSONDecodeError as exc:
-        raise UsageError(f"{path}:{exc.lineno}:{exc.colno}: the {what} is not valid JSON ({exc.msg})") from exc
+    Read through :mod:`feeler._read` (special files refused, size cap, UTF-8 checked)."""
+    from feeler._read import read_json
+
+    return read_json(path, what=f"the {what}", expect=None, fix=f"give a {what} file written by feeler")
 
 
 def write_text_atomic(path: str, text: str) -> None:

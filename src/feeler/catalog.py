@@ -178,8 +178,9 @@ class Catalog:
         for key in ("server", "capabilities"):
             if not isinstance(data.get(key) or {}, dict):
                 raise UsageError(f"{source}: {key!r} must be a JSON object")
-        if not isinstance(data.get("supportedRevisions") or [], list):
-            raise UsageError(f"{source}: 'supportedRevisions' must be a list")
+        versions = data.get("supportedVersions") or []
+        if not isinstance(versions, list) or not all(isinstance(v, str) for v in versions):
+            raise UsageError(f"{source}: 'supportedVersions' must be a list of strings")
         return cls(
             revision=data["protocolVersion"],
             era=data["era"],

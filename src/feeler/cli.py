@@ -16,6 +16,7 @@ from __future__ import annotations
 import importlib
 import sys
 import traceback
+import warnings
 from collections.abc import Sequence
 
 import click
@@ -33,6 +34,8 @@ COMMANDS: dict[str, str] = {
     "demo": "feeler.commands:demo",
     "cases": "feeler.generate.cli:cases",
     "check": "feeler.check.cli:check",
+    "audit": "feeler.check.audit_cli:audit",
+    "auth": "feeler.check.audit_cli:auth",
     "replay": "feeler.check.cli:replay",
     "diff": "feeler.diff.cli:diff",
     "approve": "feeler.baseline.cli:approve",
@@ -41,9 +44,28 @@ COMMANDS: dict[str, str] = {
 }
 
 
+#: command name -> its line in ``feeler --help``, so that the help imports no command module
+SUMMARIES: dict[str, str] = {
+    "catalog": "Capture the catalog (tools, prompts, resources...) as canonical JSON.",
+    "demo": "Check the bundled demo server and show what feeler finds.",
+    "cases": "Print the go and no-go cases of one schema as JSON Lines.",
+    "check": "Call every tool with go and no-go cases and check every answer.",
+    "replay": "Send a finding's recorded request again.",
+    "diff": "Compare two catalogs: breaking or not, with witnesses.",
+    "approve": "Show the differences from the baseline, then write the new one.",
+    "report": "Join and render report documents (feeler-report.json).",
+    "campaign": "Test a server for a fixed time budget (nightly runs, shards, resume).",
+}
+
+
 class _LazyGroup(click.Group):
     def list_commands(self, ctx: click.Context) -> list[str]:
-        return sorted(name for name in COMMANDS if self._load(name) is not None)
+        return sorted(COMMANDS)
+
+    def format_commands(self, ctx: click.Context, formatter: click.HelpFormatter) -> None:
+        rows = [(name, SUMMARIES.get(name, "")) for name in self.list_commands(ctx)]
+        with formatter.section("Commands"):
+            formatter.write_dl(rows)
 
     def get_command(self, ctx: click.Context, cmd_name: str) -> click.Command | None:
         return self._load(cmd_name)
@@ -75,9 +97,19 @@ def cli() -> None:
 
 def run(argv: Sequence[str] | None = None) -> int:
     """Run the command line with *argv*; return the exit code (used by tests and :func:`main`)."""
+    from feeler import _signals
+
+    _signals.install()  # SIGTERM/SIGHUP unwind like Ctrl-C, so every server started is ended
+    warnings.showwarning = _show_warning
     try:
         result = cli.main(args=list(argv) if argv is not None else None, prog_name="feeler", standalone_mode=False)
-    except click.exceptions.Abort:
+    except click.exceptions.Abort as exc:
+        if isinstance(exc.__context__, _signals.Stopped):  # click turns KeyboardInterrupt into Abort
+            click.echo(f"feeler: stopped by {exc.__context__}; the servers it started were ended", err=True)
+            return exc.__context__.exit_code
+        if isinstance(exc.__context__, KeyboardInterrupt):
+            click.echo("feeler: interrupted", err=True)
+            return 130
         click.echo("feeler: aborted", err=True)
         return EXIT_USAGE
     except click.ClickException as exc:
@@ -86,6 +118,9 @@ def run(argv: Sequence[str] | None = None) -> int:
     except FeelerError as exc:
         click.echo(f"feeler: {exc}", err=True)
         return EXIT_USAGE
+    except _signals.Stopped as exc:
+        click.echo(f"feeler: stopped by {exc}; the servers it started were ended", err=True)
+        return exc.exit_code
     except KeyboardInterrupt:
         click.echo("feeler: interrupted", err=True)
         return 130
@@ -94,6 +129,18 @@ def run(argv: Sequence[str] | None = None) -> int:
         click.echo("feeler: internal error (a bug in feeler; please report it with the traceback above)", err=True)
         return EXIT_INTERNAL
     return int(result) if isinstance(result, int) else EXIT_OK
+
+
+_python_showwarning = warnings.showwarning
+
+
+def _show_warning(message: Warning | str, category: type[Warning], filename: str, lineno: int,
+                  file: object = None, line: str | None = None) -> None:
+    """feeler's own warnings as one ``feeler: warning: ...`` line; others as Python shows them."""
+    if category.__module__.startswith("feeler"):
+        click.echo(f"feeler: warning: {message}", err=True)
+    else:
+        _python_showwarning(message, category, filename, lineno, file, line)  # type: ignore[arg-type]
 
 
 def main() -> None:

@@ -53,6 +53,11 @@ _KEYS: dict[str, tuple[tuple[type, ...], str]] = {
     "record_tools": ((list,), "a list of tool name patterns whose outputs are recorded (read-only tools always are)"),
     "record_per_tool": ((int,), "a whole number of pinned go cases recorded per tool"),
     "replay_dir": ((str,), "a folder"),
+    "secret_env": ((list,), "a list of environment variable names whose values are secrets"),
+    "secrets": ((list,), "a list of literal secret strings (prefer secret_env)"),
+    "max_tools": ((int,), "a whole number: more tools than this is a catalog_size warning"),
+    "max_catalog_tokens": ((int,), "a whole number: a larger token estimate is a catalog_size warning"),
+    "allowed_hosts": ((list,), "a list of host names descriptions may link to"),
     "values": ((dict,), "a table of [TOOL:]PROPERTY (or $.path) = value (a list: one of these)"),
     "values_hook": ((str,), "\"package.module:function\" returning hypothesis strategies per property"),
 }

@@ -88,6 +88,7 @@ def capture(session: Session) -> Catalog:
                 continue  # optional even for servers with resources
             raise
         sections[attr] = items
+    _check_entries(session, sections)
     session.learn_tools(sections["tools"])
     return Catalog(
         revision=str(session.revision),
@@ -98,6 +99,19 @@ def capture(session: Session) -> Catalog:
         instructions=session.instructions,
         **sections,
     )
+
+
+def _check_entries(session: Session, sections: dict[str, list[Any]]) -> None:
+    """Every listed entry must be a JSON object, and every tool must have a string name (MCP schema
+    ``Tool``: ``name`` is required); anything else is a clear error, not a crash later."""
+    for attr, items in sections.items():
+        for index, entry in enumerate(items):
+            if not isinstance(entry, dict) or (attr == "tools" and not isinstance(entry.get("name"), str)):
+                shown = repr(entry)[:60]
+                what = "not a JSON object" if not isinstance(entry, dict) else "an object without a string name"
+                raise RemoteProtocolError(f"{attr}[{index}] in the list the server sent is {what} ({shown}); "
+                                          "every entry must be an object (MCP schema: Tool, Prompt, Resource)",
+                                          target=session.target)
 
 
 def capture_catalog(target: Target | str, *, revision: str | None = None, timeout: float = 30.0, **options: Any) -> Catalog:

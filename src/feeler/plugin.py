@@ -37,6 +37,8 @@ OPT_SAMPLE_SEED = "--feeler-sample-seed"
 OPT_PROTOCOL_VERSION = "--feeler-protocol-version"
 OPT_APPROVE = "--feeler-approve"
 OPT_OFF = "--feeler-off"
+OPT_REPORT = "--feeler-report"
+
 #: Former option -> (its new name, its dest): accepted for one release with a notice.
 RENAMED_OPTIONS: dict[str, tuple[str, str]] = {
     "--feeler-profile": (OPT_DEPTH, "feeler_depth"),
@@ -70,6 +72,9 @@ def pytest_addoption(parser: pytest.Parser) -> None:
     group.addoption(OPT_APPROVE, action="store_true", default=False,
                     help="Write the live catalog as the new approved baseline instead of comparing with it.")  # fmt: skip
     group.addoption(OPT_OFF, action="store_true", default=False, help="Add no feeler items even if targets are configured.")
+    group.addoption(OPT_REPORT, default=None, metavar="DIR",
+                    help="Write each target's reports (JSON, Markdown, JUnit XML, SARIF, HTML) into DIR/<target>[-<worker>]; "
+                    "join workers with `feeler report merge`.")  # fmt: skip
 
 
 def _apply_renamed_options(config: pytest.Config) -> None:
@@ -108,6 +113,10 @@ def pytest_configure(config: pytest.Config) -> None:
                 targets[tgt.slug()] = tgt
     except FeelerError as exc:
         raise pytest.UsageError(f"feeler: {exc}") from None
+    if targets:  # SIGTERM/SIGHUP unwind like Ctrl-C, so pytest's teardown ends the servers
+        from feeler import _signals
+
+        _signals.install()
     plugin = FeelerPlugin(config, cfg, targets)
     config.stash[_plugin_key] = plugin
     config.pluginmanager.register(plugin, "feelerplugin")
@@ -174,7 +183,18 @@ class FeelerPlugin:
         for runner in self.runners.values():
             runner.close()
             runner._write_replays()
+            self._write_report(runner)
         self.runners.clear()
+
+    def _write_report(self, runner: Runner) -> None:
+        folder = self.config.getoption(OPT_REPORT, None)
+        if not folder or runner.report.catalog is None:
+            return
+        from feeler.report import build_report, write_reports
+
+        worker = getattr(self.config, "workerinput", {}).get("workerid")
+        name = runner.target.slug() + (f"-{worker}" if worker else "")
+        write_reports(build_report(runner.report, command="pytest"), os.path.join(folder, name))
 
     # -- collection ---------------------------------------------------------------------------------
     @pytest.hookimpl(tryfirst=True)
@@ -260,7 +280,7 @@ class FeelerItem(pytest.Item):
         runner.run_tool(tool, kinds=(self.kind,))
         mine = [
             f for f in runner.report.findings
-            if f.tool == self.tool_name and _kind_of(f.kind) == self.kind
+            if self.tool_name in f.tools and _kind_of(f.kind) == self.kind
         ]  # fmt: skip
         self._fail_on(mine)
 
@@ -276,6 +296,8 @@ class FeelerItem(pytest.Item):
 
         runner.open()
         findings_before = runner.report.findings.signatures()
+        if not runner.report.tools_audited:
+            runner.audit_catalog()  # the catalog-wide checks (names unique, size, near-duplicates)
         for tool in runner.tools():
             runner._evaluate(CallContext("catalog", tool, runner.revision, runner.era, runner.settings))
         new = [f for f in runner.report.findings if f.signature not in findings_before and f.severity == "error"]

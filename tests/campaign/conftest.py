@@ -1,18 +1,13 @@
-"""A fast campaign target: tests/servers/several_tools_one_flaw.py (stdlib wire loop, five tools)."""
+"""Fixtures of the campaign tests."""
 
 from __future__ import annotations
 
-import sys
-from pathlib import Path
-
 import pytest
+from campaign_helpers import several_target
 
 from feeler.target import Target
-
-SERVER = Path(__file__).resolve().parents[1] / "servers" / "several_tools_one_flaw.py"
-TOOLS = ("alpha", "bravo", "charlie", "delta", "echo")
 
 
 @pytest.fixture
 def several() -> Target:
-    return Target(kind="stdio", command=(sys.executable, str(SERVER)))
+    return several_target()

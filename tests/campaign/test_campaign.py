@@ -18,7 +18,7 @@ from pathlib import Path
 from typing import Any
 
 import pytest
-from conftest import SERVER, TOOLS
+from campaign_helpers import SERVER, TOOLS
 
 from feeler.campaign import Campaign, CampaignOptions, open_example_db, parse_duration, parse_shard, read_call_log, shard_tools
 from feeler.check.runner import RunOptions, Runner
@@ -27,7 +27,7 @@ from feeler.target import Target
 
 #: a bounded wait for the interrupted campaign to make some calls (the machine may be busy)
 START_TIMEOUT = 120.0
-CALL_KINDS = {"go", "no-go"}
+CALL_KINDS = {"go", "no-go", "chain"}
 OUTCOMES = {"entered", "stopped", "broke"}
 
 
@@ -70,7 +70,8 @@ def test_campaign_stops_on_budget_and_logs_every_call(several: Target, tmp_path:
     assert time.monotonic() - started < 4.0 + 30.0  # bounded (the last call and the replay files may follow)
     lines = read_call_log(camp.log_path)
     calls = sum(s.go_calls + s.nogo_calls for s in report.tools.values())
-    assert len(lines) == calls == camp.calls > 0
+    assert len(lines) == camp.calls > 0
+    assert sum(1 for line in lines if line["kind"] != "chain") == calls  # chain steps are logged, not counted as cases
     for line in lines:
         assert line["kind"] in CALL_KINDS and line["outcome"] in OUTCOMES and line["tool"] in TOOLS
         datetime.fromisoformat(line["time"].replace("Z", "+00:00"))  # RFC 3339
@@ -106,7 +107,8 @@ def test_interrupted_campaign_continues(several: Target, tmp_path: Path) -> None
             proc.wait(10)
     assert proc.returncode == 130, err.decode()
     state = json.loads((folder / "state.json").read_text(encoding="utf-8"))
-    assert state["done"] is False and state["calls"] == len(_lines(log))
+    # The signal may land between a call's log line and its count: at most the one call in flight differs.
+    assert state["done"] is False and 0 <= len(_lines(log)) - state["calls"] <= 1
     before_lines = _lines(log)
     before_findings = {f["check"] + "|" + str(f["tool"]) + "|" + f["error_class"] for f in state["findings"]}
     # A later kill in the middle of a write leaves half a line: the next start cuts it.
@@ -118,7 +120,8 @@ def test_interrupted_campaign_continues(several: Target, tmp_path: Path) -> None
     after = _lines(log)
     assert after[: len(before_lines)] == before_lines
     assert all(json.loads(line) for line in after)  # every line whole JSON
-    assert len(after) == sum(s.go_calls + s.nogo_calls for s in report.tools.values())
+    cases = [line for line in after if json.loads(line)["kind"] != "chain"]
+    assert len(cases) == sum(s.go_calls + s.nogo_calls for s in report.tools.values())
     found = {f.check + "|" + str(f.tool) + "|" + f.error_class for f in report.findings}
     assert before_findings <= found
     assert json.loads((folder / "state.json").read_text(encoding="utf-8"))["done"] is True

@@ -12,7 +12,7 @@ import sys
 from pathlib import Path
 
 import pytest
-from conftest import SERVER, TOOLS
+from campaign_helpers import SERVER, TOOLS
 from jsonschema import Draft4Validator
 
 from feeler.cli import run

@@ -24,7 +24,6 @@ from feeler.cli import run
 
 PY = sys.executable
 CATALOG = {"format": "feeler-catalog/1", "revision": "2025-11-25", "era": "handshake", "tools": []}
-BASELINE_HEADER = {"format": "feeler-baseline/1", "feeler": "0", "date": "2026-01-01"}
 
 
 def _nested(levels: int) -> dict:
@@ -125,7 +124,7 @@ ROWS = [
     Row("binary replay file", lambda d: _write(d / "r.json", BINARY), ["replay", "r.json"], 2, "r.json: is not UTF-8 text"),
     Row("FIFO replay file", _fifo("r.json"), ["replay", "r.json"], 2, "r.json: is a FIFO", fifo=True),
     Row("replay file a list", lambda d: _write(d / "r.json", b"[1]"), ["replay", "r.json"], 2, "must be a JSON object"),
-    Row("replay request not a string", lambda d: _write(d / "r.json", {"format": "feeler-replay/1", "target": {}, "request": 1, "finding": {}}),
+    Row("replay request not a string", lambda d: _write(d / "r.json", {"format": "feeler-replay/2", "target": {}, "request": 1, "finding": {}}),
         ["replay", "r.json"], 2, "has no 'request' string"),
     # -- schema files given to cases ---------------------------------------------------------------
     Row("binary schema file", lambda d: _write(d / "s.json", BINARY), ["cases", "s.json"], 2, "s.json: is not UTF-8 text"),
@@ -190,7 +189,7 @@ def test_diff_of_an_over_limit_schema_is_likely_breaking_not_a_crash() -> None:
     from feeler.diff.model import Direction, Verdict
 
     changes = diff_schemas(_nested(100), _nested(101), Direction.INPUT, subject="tool:deep")
-    assert [(c.kind, c.verdict) for c in changes] == [("schema-limit", Verdict.LIKELY_BREAKING)]
+    assert [(c.rule, c.verdict) for c in changes] == [("schema-limit", Verdict.LIKELY_BREAKING)]
     assert "64 levels" in changes[0].message
 
 

@@ -20,7 +20,7 @@ def checked(tmp_path_factory: pytest.TempPathFactory) -> dict[str, Any]:
     """The report folder written by ``feeler check --report-dir`` and the JSON document in it."""
     base = tmp_path_factory.mktemp("report")
     folder = base / "reports"
-    argv = ["check", "--go-examples", "3", "--report-dir", str(folder), "--replay-dir", str(base / "replays")]
+    argv = ["check", "--samples", "3", "--report-dir", str(folder), "--replay-dir", str(base / "replays")]
     for tool in REPORT_TOOLS:
         argv += ["--include", tool]
     code = run([*argv, "--", sys.executable, "-m", "feeler.demo"])

@@ -31,7 +31,7 @@ ECHO_TOOL = {
     "description": "Return the text it is given.",
     "inputSchema": {
         "type": "object",
-        "properties": {"text": {"type": "string", "maxLength": 1000}},
+        "properties": {"text": {"type": "string", "maxLength": 1000, "description": "The text to return."}},
         "required": ["text"],
         "additionalProperties": False,
     },

@@ -26,7 +26,7 @@ def _records() -> Target:
 
 
 def test_read_your_writes_defect_is_a_shrunk_chain_finding_that_replays(tmp_path: Path) -> None:
-    options = RunOptions(go_examples=3, probes=False, replay_dir=str(tmp_path))
+    options = RunOptions(samples=3, probes=False, replay_dir=str(tmp_path))
     report = Runner(_records(), options).run()
     chain = [f for f in report.findings if f.kind == "chain"]
     assert chain, [f.to_json() for f in report.findings]

@@ -21,14 +21,14 @@ SERVERS = Path(__file__).resolve().parents[1] / "servers"
 
 def test_listing_roots_open_the_read_tools_with_no_configuration() -> None:
     target = Target(kind="stdio", command=(sys.executable, str(SERVERS / "reads_under_listed_roots.py")))
-    options = RunOptions(go_examples=3, probes=False, replay_dir=None, chain_runs=0)
+    options = RunOptions(samples=3, probes=False, replay_dir=None, chain_runs=0)
     report = Runner(target, options).run()
     for name in ("read_text", "stat_path"):
         stats = report.tools[name]
         assert stats.world.entered_by_source["learned"] > 0, (name, stats.world.entered_by_source)
         assert stats.learned_from and all(p.startswith("list_roots /structuredContent/roots/") for p in stats.learned_from)
         # Without learning every read go case is refused ("outside the allowed roots").
-    off = Runner(target, RunOptions(go_examples=3, probes=False, replay_dir=None, chain_runs=0, learn=False)).run()
+    off = Runner(target, RunOptions(samples=3, probes=False, replay_dir=None, chain_runs=0, learn=False)).run()
     assert off.tools["read_text"].go_entered == 0
 
 

@@ -96,6 +96,10 @@ def _record(target: str, timeout: float, tools: list[str], per_tool: int) -> tup
         raise click.UsageError(f"{target} is a file or folder; --record-outputs needs a live target")
     with connected(target, timeout=timeout) as session:
         catalog = capture(session)
-        outputs = record_outputs(session, catalog, tools=tools, per_tool=per_tool)
+        from feeler.config import load_config
+        from feeler.redact import redactor_for
+
+        outputs = record_outputs(session, catalog, tools=tools, per_tool=per_tool,
+                                 redactor=redactor_for(None, load_config().values))
     click.echo(f"feeler approve: recorded {len(outputs)} output(s) of {len({r['tool'] for r in outputs})} tool(s)")
     return catalog, target, outputs

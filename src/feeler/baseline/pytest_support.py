@@ -33,6 +33,7 @@ def check_catalog_against_baseline(
     """
     from feeler.diff import diff_catalogs, render
     from feeler.diff.outputs import OutputMasks, compare_outputs
+    from feeler.redact import redactor_for
 
     cfg = config or {}
     store = BaselineStore(folder, target.spec)
@@ -44,7 +45,8 @@ def check_catalog_against_baseline(
             from feeler.baseline.record import record_outputs
 
             outputs = record_outputs(session, catalog, tools=cfg.get("record_tools", []),
-                                     per_tool=int(cfg.get("record_per_tool", 3)))  # fmt: skip
+                                     per_tool=int(cfg.get("record_per_tool", 3)),
+                                     redactor=redactor_for(target, cfg))  # fmt: skip
         store.write(catalog, outputs)
         return []
     if not store.exists():
@@ -72,7 +74,8 @@ def check_catalog_against_baseline(
             records = store.read_outputs()
         except BaselineError as exc:
             return problems + [str(exc)]
-        changes = compare_outputs(records, rerun_records(session, records), OutputMasks.from_config(cfg))
+        changes = compare_outputs(records, rerun_records(session, records, redactor=redactor_for(target, cfg)),
+                                  OutputMasks.from_config(cfg))
         if changes:
             problems.append(
                 f"{len(changes)} recorded output(s) changed since {store.outputs_path} was approved "

@@ -15,6 +15,7 @@ from typing import Any
 
 from feeler.catalog import Catalog, Tool
 from feeler.errors import SchemaProblem, TargetError
+from feeler.redact import Redactor, redactor_for
 from feeler.session import Session
 
 __all__ = ["DEFAULT_PER_TOOL", "pinned_arguments", "record_outputs", "recordable", "rerun_records"]
@@ -56,14 +57,16 @@ def _clean(result: Any) -> Any:
     return result
 
 
-def _call(session: Session, tool: str, arguments: Any) -> dict[str, Any]:
+def _call(session: Session, tool: str, arguments: Any, redactor: Redactor) -> dict[str, Any]:
     try:
         ex = session.call_tool(tool, arguments)
     except TargetError as exc:
         return {"tool": tool, "arguments": arguments, "result": {"feelerFailure": type(exc).__name__}}
     if ex.error is not None:
         return {"tool": tool, "arguments": arguments, "result": {"error": {"code": ex.error.get("code")}}}
-    return {"tool": tool, "arguments": arguments, "result": _clean(ex.result)}
+    # Results (isError texts too) redacted, and paths under the project, home and server folders written relatively, so the
+    # baseline neither leaks nor depends on where it was checked out.
+    return {"tool": tool, "arguments": arguments, "result": redactor.paths(_clean(ex.result))}
 
 
 def record_outputs(
@@ -73,21 +76,28 @@ def record_outputs(
     tools: Iterable[str] = (),
     per_tool: int = DEFAULT_PER_TOOL,
     seed: int = 0,
+    redactor: Redactor | None = None,
 ) -> list[dict[str, Any]]:
     """Call every recordable tool with its pinned arguments; return ``{tool, arguments, result}`` records.
 
-    Error answers keep only their code (messages often carry volatile details).
+    Error answers keep only their code (messages often carry volatile details); results, isError ones too,
+    pass through *redactor* (default :func:`feeler.redact.redactor_for`): secrets masked, paths relative.
     """
+    red = redactor or redactor_for()
     patterns = list(tools)
     records = []
     for tool in catalog.tool_list():
         if not recordable(tool, patterns):
             continue
         for arguments in pinned_arguments(tool, per_tool=per_tool, seed=seed):
-            records.append(_call(session, tool.name, arguments))
+            records.append(_call(session, tool.name, arguments, red))
     return records
 
 
-def rerun_records(session: Session, records: Iterable[Mapping[str, Any]]) -> list[dict[str, Any]]:
-    """Call each recorded case again with the same arguments, for comparison with the baseline."""
-    return [_call(session, str(r["tool"]), r.get("arguments")) for r in records]
+def rerun_records(
+    session: Session, records: Iterable[Mapping[str, Any]], *, redactor: Redactor | None = None
+) -> list[dict[str, Any]]:
+    """Call each recorded case again with the same arguments, for comparison with the baseline
+    (through the same redaction as :func:`record_outputs`)."""
+    red = redactor or redactor_for()
+    return [_call(session, str(r["tool"]), r.get("arguments"), red) for r in records]

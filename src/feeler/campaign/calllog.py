@@ -1,6 +1,6 @@
 """The call log: JSON Lines, one line per tool call, written as the run goes (memory stays flat).
 
-Each line: ``time`` (UTC, RFC 3339 with milliseconds), ``tool``, ``kind`` (go / no-go), ``source``
+Each line: ``time`` (UTC, RFC 3339 with milliseconds), ``tool``, ``kind`` (go / no-go / chain), ``source``
 (where the values came from: schema, known, learned, chain, sampled), ``argumentsDigest`` (SHA-256 of
 the canonical JSON of the arguments, first 16 hex digits), ``outcome`` (``entered``: a success result;
 ``stopped``: isError or -32602; ``broke``: any other error, a crash, a timeout, an exit), ``checks`` (the

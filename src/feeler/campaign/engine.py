@@ -1,10 +1,11 @@
 """The campaign engine: rotate through the tools for a time budget, growing the drawn cases each round.
 
 Round 0 runs every case kind for each tool (catalog checks, boundary and drawn go cases, no-go cases,
-probes), like ``feeler check``. Each later round draws more go cases per tool (``samples`` times
+probes), like ``feeler check``; after the round's last tool come the chains (sequences of calls linked
+by returned values, :mod:`feeler.world`), growing like the drawn cases. Each later round draws more go cases per tool (``samples`` times
 ``growth`` per round, up to ``max_samples``) with a new seed, through hypothesis, whose example database
 (:mod:`feeler.campaign.database`) replays earlier failing examples first. The steps of one rotation are
-the table :data:`ROTATION`: register another with :func:`rotation_step` (chains of calls join this way).
+the table :data:`ROTATION` (``cases``, then ``chains``): register another with :func:`rotation_step`.
 
 After every step the state (round, position, time used, findings, counters) is written atomically to
 ``state.json`` in the campaign folder, next to the call log ``calls.jsonl``. Started again after an
@@ -120,6 +121,24 @@ def _cases(campaign: Campaign, tool: Any, round_no: int) -> None:
     runner._drawn_go(tool, stats, arguments(tool.input_schema))
 
 
+#: chain runs per round grow like the drawn cases, up to this many
+MAX_CHAIN_RUNS = 400
+
+
+@rotation_step("chains")
+def _chains(campaign: Campaign, tool: Any, round_no: int) -> None:
+    """Once per round, after its last tool: chains of calls linked by returned values (feeler.world).
+    Chains cross tools, so with --shard only shard 1 runs them."""
+    runner = campaign.runner
+    if campaign.position != len(campaign.tool_names) - 1 or runner.options.chain_runs <= 0:
+        return
+    if campaign.options.shard is not None and campaign.options.shard[0] != 1:
+        return
+    runs = min(MAX_CHAIN_RUNS, int(runner.options.chain_runs * campaign.options.growth**round_no))
+    runner.world.discover(runner)
+    runner.world.chains(runner, runs=runs, steps=runner.options.chain_steps)
+
+
 class Campaign:
     """One campaign against one target (a :class:`~feeler.check.runner.Runner` underneath).
 
@@ -154,8 +173,9 @@ class Campaign:
         if self.options.fresh or not os.path.exists(self.state_path):
             self._start_afresh()
             return
-        with open(self.state_path, encoding="utf-8") as handle:
-            state = json.load(handle)
+        from feeler._read import read_json
+
+        state = read_json(self.state_path, what="the campaign state", fix="delete it or pass --fresh to start afresh")
         if state.get("format") != STATE_FORMAT or state.get("done"):
             self._start_afresh()
             return
@@ -221,8 +241,8 @@ class Campaign:
         return max(1, grown)
 
     def _on_call(self, tool: Any, case: Any, ctx: Any, failed: list[str]) -> None:
-        self.calls += 1
         self.log.hook(tool, case, ctx, failed)
+        self.calls += 1
         if self._extra_on_call is not None:
             self._extra_on_call(self)
         if self.remaining() <= 0:
@@ -285,7 +305,8 @@ def _finding_data(finding: Any) -> dict[str, Any]:
     return {f.name: getattr(finding, f.name) for f in dataclasses.fields(finding)}
 
 
-_STATS_SKIP = ("cases", "coverage", "durations")
+#: not kept across a resume: cases and bases are remade, the world summary starts again each run
+_STATS_SKIP = ("cases", "coverage", "durations", "world", "bases")
 
 
 def _stats_data(stats: Any) -> dict[str, Any]:

@@ -194,23 +194,24 @@ def nogo_stops(ctx: CallContext) -> Iterator[Problem]:
         )
 
 
-_EXCEPTION_NAME = re.compile(r"\b([A-Z][A-Za-z0-9_]*(?:Error|Exception))\b(?::|\()")
-
-
 @register("no_crash", applies_to=("go", "no-go"), reference="common practice: a tool reports failures, it does not crash")
 def no_crash(ctx: CallContext) -> Iterator[Problem]:
-    """A call never ends in an unhandled exception: no exception class named in an error, no exit, no hang."""
+    """A call never ends in an unhandled exception: no exception class, traceback line or SDK crash text
+    ("Error executing tool NAME") in an error or an isError result, no exit, no hang."""
+    from feeler.check.trust import crash_reason
+
     if ctx.failure is not None:
         kind = type(ctx.failure).__name__
         what = {"RequestTimeout": "hung (no answer in time)", "ServerExited": "made the server exit"}.get(kind, f"failed ({kind})")
         yield Problem(f"the call {what}{_where(ctx)}: {ctx.failure}", error_class=kind)
         return
     for text in _error_texts(ctx):
-        match = _EXCEPTION_NAME.search(text)
-        if match and match.group(1) not in ("ValidationError", "ToolError"):
+        reason = crash_reason(text)
+        if reason:
+            what = {"sdk-crash": "crashed (the SDK's text for an unexpected exception)", "traceback": "crashed (a traceback)"}
             yield Problem(
-                f"the tool raised an unhandled {match.group(1)}{_where(ctx)}: {text.strip()[:200]}",
-                error_class=f"unhandled:{match.group(1)}",
+                f"the tool {what.get(reason, 'raised an unhandled ' + reason.partition(':')[2])}{_where(ctx)}: {text.strip()[:200]}",
+                error_class=reason,
             )
             return
 
@@ -233,13 +234,16 @@ _ABS_PATH = re.compile(
 
 @register("no_leaks", applies_to=("go", "no-go", "probe"), reference="common practice (OWASP: error handling); MCP 2025-11-25 server/tools security")
 def no_leaks(ctx: CallContext) -> Iterator[Problem]:
-    """Errors leak no internals: stack traces (Python, JavaScript, Java, Go), absolute file paths, secrets."""
+    """Errors leak no internals: stack traces (Python, JavaScript, Java, Go), absolute file paths (but for
+    those the user gave: the target's command line and working folder, the arguments sent), secrets."""
+    from feeler.check.trust import given_path
+
     for text in _error_texts(ctx):
         for name, pattern in _TRACES.items():
             if pattern.search(text):
                 yield Problem(f"an error shows a {name.replace('-', ' ')}{_where(ctx)}", error_class=name)
                 break
-        path = _ABS_PATH.search(text)
+        path = next((m for m in _ABS_PATH.finditer(text) if not given_path(m.group(0), ctx.settings.given_paths, getattr(ctx.case, "arguments", None))), None)
         if path:
             yield Problem(f"an error shows an absolute file path {path.group(0)!r}{_where(ctx)}", error_class="absolute-path")
         for secret in ctx.settings.secrets:

@@ -29,6 +29,17 @@ def _budgets(values: tuple[str, ...], config: dict[str, Any]) -> dict[str, float
     return out
 
 
+def audit_settings(config: Any) -> dict[str, Any]:
+    """The audit thresholds of ``[tool.feeler]`` (``max_tools``, ``max_catalog_tokens``, ``allowed_hosts``)."""
+    out: dict[str, Any] = {}
+    for key in ("max_tools", "max_catalog_tokens"):
+        if config.get(key) is not None:
+            out[key] = int(config.get(key))
+    if config.get("allowed_hosts"):
+        out["allowed_hosts"] = tuple(str(h) for h in config.get("allowed_hosts"))
+    return out
+
+
 def _list_checks(ctx: click.Context, _param: click.Parameter, value: bool) -> None:
     if not value or ctx.resilient_parsing:
         return
@@ -83,6 +94,7 @@ def check(**kwargs: Any) -> int:
     from feeler.check.report import report_json, report_text
     from feeler.check.runner import RunOptions, Runner
     from feeler.config import load_config
+    from feeler.redact import redactor_for
 
     from feeler.depth import samples_for
 
@@ -123,10 +135,12 @@ def check(**kwargs: Any) -> int:
         settings=CheckSettings(
             strict_go=kwargs["strict_go"] or bool(config.get("strict_go", False)),
             latency_budget=_budgets(kwargs["budget"], config.get("budgets", {})),
+            **audit_settings(config),
         ),
         probes=not kwargs["no_probes"],
         dry_run=kwargs["dry_run"],
         replay_dir=kwargs["replay_dir"] or config.get("replay_dir", ".feeler/replays"),
+        redactor=redactor_for(opts.target, config.values),
     )
     progress = (lambda line: click.echo(line, err=True)) if sys.stderr.isatty() or fmt == "text" else None
     if every:
@@ -169,16 +183,20 @@ def replay_command(file: str, timeout: float) -> int:
     Exit code 1 when the finding shows again, 0 when it does not, 2 on errors.
     """
     from feeler.check.replay import load_replay, replay
+    from feeler.config import load_config
+    from feeler.redact import redactor_for
+    from feeler.target import Target
 
     data = load_replay(file)
     outcome = replay(data, timeout=timeout)
-    click.echo(f"sent:     {outcome.request}")
-    click.echo(f"answer:   {outcome.answer}")
+    red = redactor_for(Target.from_json(data["target"]), load_config().values).text  # the new answer may leak too
+    click.echo(f"sent:     {red(outcome.request)}")
+    click.echo(f"answer:   {red(str(outcome.answer))}")
     finding = data["finding"]
     if outcome.reproduced:
-        click.echo(f"reproduced: [{finding.get('check')}] {outcome.messages[0] if outcome.messages else finding.get('message')}")
+        click.echo(red(f"reproduced: [{finding.get('check')}] {outcome.messages[0] if outcome.messages else finding.get('message')}"))
         return 1
-    click.echo(f"not reproduced: [{finding.get('check')}] {finding.get('message')}")
+    click.echo(red(f"not reproduced: [{finding.get('check')}] {finding.get('message')}"))
     return 0
 
 

@@ -47,6 +47,19 @@ class Finding:
     replay: str | None = None
     count: int = 1
     extra: dict[str, Any] = field(default_factory=dict)
+    #: every tool that showed this same finding (the first is ``tool``); see :meth:`FindingSet.add`
+    tools: list[str] = field(default_factory=list)
+
+    def __post_init__(self) -> None:
+        if self.tool and not self.tools:
+            self.tools = [self.tool]
+
+    @property
+    def group_key(self) -> str:
+        """The signature without the tool, and the message with the tool's name blanked: equal keys on
+        several tools are one finding listing those tools."""
+        message = self.message.replace(repr(self.tool), "<tool>").replace(str(self.tool), "<tool>") if self.tool else self.message
+        return self.signature.split("|", 2)[0] + "|" + self.signature.split("|", 2)[2] + "|" + self.kind + "|" + message
 
     @property
     def signature(self) -> str:
@@ -92,6 +105,7 @@ class Finding:
             "replay": self.replay,
             "count": self.count,
             "signature": self.signature,
+            "tools": list(self.tools),
         }
         return out
 
@@ -101,22 +115,37 @@ def _size(value: Any) -> int:
 
 
 class FindingSet:
-    """Findings keyed by signature; keeps the one with the smallest arguments and counts repeats."""
+    """Findings keyed by signature; keeps the one with the smallest arguments and counts repeats.
+
+    The same finding on several tools (same check, kind, error class and message but for the tool's
+    name) is kept once, listing the tools in ``tools``: fourteen tools answering a malformed request the
+    same way are one defect of the server, not fourteen.
+    """
 
     def __init__(self) -> None:
         self._by_sig: dict[str, Finding] = {}
+        self._by_group: dict[str, str] = {}
 
     def add(self, finding: Finding) -> bool:
-        """Add; True when the signature is new."""
-        known = self._by_sig.get(finding.signature)
+        """Add; True when the finding is new (neither its signature nor, on another tool, its group seen)."""
+        sig = self._by_group.get(finding.group_key, finding.signature)
+        known = self._by_sig.get(sig)
         if known is None:
-            self._by_sig[finding.signature] = finding
+            self._by_sig[sig] = finding
+            self._by_group.setdefault(finding.group_key, sig)
             return True
         known.count += 1
-        if _size(finding.arguments) < _size(known.arguments):
-            finding.count = known.count
-            self._by_sig[finding.signature] = finding
+        if finding.tool and finding.tool not in known.tools:
+            known.tools.append(finding.tool)
+            return False
+        if _size(finding.arguments) < _size(known.arguments) and finding.tool == known.tool:
+            finding.count, finding.tools = known.count, known.tools
+            self._by_sig[sig] = finding
         return False
+
+    def for_tool(self, tool: str | None) -> list[Finding]:
+        """The findings that *tool* showed (alone or with other tools)."""
+        return [f for f in self if (tool in f.tools if tool else f.tool is None)]
 
     def __iter__(self):  # type: ignore[no-untyped-def]
         return iter(sorted(self._by_sig.values(), key=lambda f: (f.tool or "", f.check, f.keyword or "", f.path or "")))
@@ -133,4 +162,5 @@ class FindingSet:
             self._by_sig.pop(signature, None)
 
     def signatures(self) -> set[str]:
-        return set(self._by_sig)
+        """Signatures of the findings, plus ``signature@tool`` for every further tool listed in one."""
+        return set(self._by_sig) | {f"{f.signature}@{t}" for f in self._by_sig.values() for t in f.tools[1:]}

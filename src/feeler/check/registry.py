@@ -40,6 +40,8 @@ class Problem:
     message: str
     severity: str | None = None
     error_class: str = ""
+    #: for a catalog-wide problem, the tools it concerns (the finding lists them)
+    tools: tuple[str, ...] = ()
 
 
 @dataclass(frozen=True)
@@ -49,11 +51,20 @@ class CheckSettings:
     :param strict_go: ``isError: true`` on a go case is a finding (otherwise it is counted and reported).
     :param latency_budget: seconds per call, by tool name; ``"*"`` is the default for every tool.
     :param secrets: strings that must never appear in an answer (values of secret-looking env vars).
+    :param given_paths: absolute paths the user gave the target (command line, working folder): an
+        error that shows one of them (or a path under it) leaks nothing the user did not know.
+    :param max_tools: a catalog with more tools than this is a warning (a model chooses worse).
+    :param max_catalog_tokens: the same for the catalog's estimated size in tokens.
+    :param allowed_hosts: hosts a description may link to without a ``poisoned_text`` warning.
     """
 
     strict_go: bool = False
     latency_budget: dict[str, float] = field(default_factory=dict)
     secrets: tuple[str, ...] = ()
+    given_paths: tuple[str, ...] = ()
+    max_tools: int = 40
+    max_catalog_tokens: int = 10_000
+    allowed_hosts: tuple[str, ...] = ()
 
     def budget_for(self, tool: str) -> float | None:
         return self.latency_budget.get(tool, self.latency_budget.get("*"))
@@ -80,6 +91,8 @@ class CallContext:
     case: Any = None
     failure: TargetError | None = None
     stats: Any = None
+    #: the whole catalog, for catalog-wide checks (``kind == "catalog"`` and ``tool is None``)
+    catalog: Any = None
     base: str | None = None
 
     @property
@@ -106,7 +119,9 @@ class Check:
     def run(self, ctx: CallContext) -> list[Problem]:
         if ctx.kind not in self.applies_to:
             return []
-        return [p if p.severity else Problem(p.message, self.severity, p.error_class) for p in self.func(ctx)]
+        from dataclasses import replace
+
+        return [p if p.severity else replace(p, severity=self.severity) for p in self.func(ctx)]
 
 
 CHECKS: dict[str, Check] = {}

@@ -54,12 +54,12 @@ def load_replay(path: str) -> dict[str, Any]:
     data = read_json(path, what="the replay file", fix="give a replay file written by `feeler check`")
     if data.get("format") not in (REPLAY_FORMAT, *OLD_REPLAY_FORMATS):
         raise UsageError(f"{path}: not a feeler replay file (expected format {REPLAY_FORMAT!r})")
-    if data["format"] in OLD_REPLAY_FORMATS:
-        data = _from_old_replay(data)
     for key, kind in (("target", dict), ("request", str), ("finding", dict)):
         if not isinstance(data.get(key), kind):
             raise UsageError(f"{path}: the replay file has no {key!r} {'object' if kind is dict else 'string'}; "
                              "write it again with `feeler check`")
+    if data["format"] in OLD_REPLAY_FORMATS:
+        data = _from_old_replay(data)
     return data
 
 
@@ -107,7 +107,7 @@ class _Case:
 def replay(data: dict[str, Any], *, timeout: float = 30.0, target: Target | None = None) -> ReplayOutcome:
     """Send the recorded request again; say whether the same check finds the same problem."""
     from feeler.check.registry import CHECKS, CallContext, CheckSettings
-    from feeler.check.runner import secret_values
+    from feeler.redact import redactor_for
     from feeler.connect import capture, open_session
 
     tgt = target or Target.from_json(data["target"])
@@ -120,7 +120,7 @@ def replay(data: dict[str, Any], *, timeout: float = 30.0, target: Target | None
             from feeler.world.chains import replay_sequence
 
             def make_ctx(chain_tool: Tool | None) -> CallContext:
-                settings = CheckSettings(secrets=secret_values(dict(tgt.env)))
+                settings = CheckSettings(secrets=redactor_for(tgt).values)
                 return CallContext("chain", chain_tool, str(session.revision), str(session.era), settings)
 
             request, answer, problems = replay_sequence(session, data, make_ctx, catalog, timeout)
@@ -143,7 +143,7 @@ def replay(data: dict[str, Any], *, timeout: float = 30.0, target: Target | None
             probes = {p.name: p for p in protocol_probes(str(session.revision), finding.get("tool") or "tool", meta)}
             case = probes.get(probe_name, case)
         ctx_kind = "alive" if finding.get("check") == "server_alive" else kind
-        ctx = CallContext(ctx_kind, tool, str(session.revision), str(session.era), CheckSettings(secrets=secret_values(dict(tgt.env))), case=case)
+        ctx = CallContext(ctx_kind, tool, str(session.revision), str(session.era), CheckSettings(secrets=redactor_for(tgt).values), case=case)
         if finding.get("check") == "bounds_honoured":
             ctx.base = "entered"  # the base (just inside the bound) entered when the finding was made
         answer = None

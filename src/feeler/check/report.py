@@ -23,8 +23,10 @@ def report_text(report: RunReport, *, verbose: bool = False) -> str:
         server = cat.server.get("name", "?")
         lines.append(f"feeler check: {report.target.name} ({server}, protocol version {cat.revision}, {cat.era} era)")
     by_tool: dict[str | None, list[Any]] = {}
+    shared = [f for f in report.findings if len(f.tools) > 1]
     for finding in report.findings:
-        by_tool.setdefault(finding.tool, []).append(finding)
+        if len(finding.tools) <= 1:
+            by_tool.setdefault(finding.tool, []).append(finding)
     for name, stats in sorted(report.tools.items()):
         flags = [] if stats.annotated else ["no annotations"]
         head = f"\n{name}" + (f"  [{', '.join(flags)}]" if flags else "")
@@ -55,6 +57,10 @@ def report_text(report: RunReport, *, verbose: bool = False) -> str:
                 )
         for finding in by_tool.pop(name, []):
             lines.extend(_finding_lines(finding, verbose))
+    if shared:
+        lines.append("\nseveral tools (one finding each, the same on every tool listed)")
+        for finding in shared:
+            lines.extend(_finding_lines(finding, verbose))
     rest = [f for tool_findings in by_tool.values() for f in tool_findings]
     if rest:
         lines.append("\nserver")
@@ -81,6 +87,9 @@ def totals_line(findings: Any) -> str:
 def _finding_lines(finding: Any, verbose: bool) -> list[str]:
     mark = "FINDING" if finding.severity == "error" else "warning"
     out = [f"  {mark} [{finding.check}] ({finding.kind}) {finding.message}"]
+    if len(finding.tools) > 1:
+        names = ", ".join(finding.tools[:12]) + (f" (+{len(finding.tools) - 12} more)" if len(finding.tools) > 12 else "")
+        out.append(f"      on {len(finding.tools)} tools: {names}")
     if finding.keyword_location:
         out.append(f"      keywordLocation: {finding.keyword_location}  instanceLocation: {finding.instance_location!r}")
     if finding.arguments is not None and finding.kind in ("go", "no-go"):

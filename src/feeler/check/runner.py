@@ -20,6 +20,7 @@ from feeler.check.findings import Finding, FindingSet
 from feeler.check.registry import CallContext, Check, CheckSettings, Problem, select_checks
 from feeler.connect import capture, open_session
 from feeler.errors import RemoteProtocolError, RequestTimeout, SchemaProblem, ServerExited, TargetError
+from feeler.redact import Redactor, redactor_for, secret_values
 from feeler.session import Exchange, Session
 from feeler.target import Target
 from feeler.world import ValuePool
@@ -28,13 +29,6 @@ from feeler.world.anchor import ToolWorld
 __all__ = ["Call", "RunOptions", "RunReport", "Runner", "ToolStats", "secret_values"]
 
 CASE_KINDS_RUN = ("catalog", "go", "no-go", "probe")
-_SECRET_NAME = re.compile(r"KEY|TOKEN|SECRET|PASSWORD|PASSWD|CREDENTIAL|PRIVATE|AUTH", re.IGNORECASE)
-
-
-def secret_values(extra_env: dict[str, str] | None = None) -> tuple[str, ...]:
-    """Values of secret-looking environment variables (long enough not to match by chance)."""
-    env = {**os.environ, **(extra_env or {})}
-    return tuple(sorted({v for k, v in env.items() if _SECRET_NAME.search(k) and len(v) >= 8}))
 
 
 @dataclass
@@ -64,6 +58,8 @@ class RunOptions:
     max_timeouts_per_tool: int = 2
     alive_timeout: float = 5.0
     dry_run: bool = False
+    #: what must never reach a report or a file (default: :func:`feeler.redact.redactor_for` the target)
+    redactor: Redactor | None = None
     values: ValuePool | None = None
     #: learn values from answers (and run the discovery pass); see feeler.world.state
     learn: bool = True
@@ -161,6 +157,8 @@ class RunReport:
     findings: FindingSet = field(default_factory=FindingSet)
     planned: list[Call] = field(default_factory=list)
     restarts: int = 0
+    #: the catalog-wide checks ran (once per run)
+    tools_audited: bool = False
 
     @property
     def revision(self) -> str:
@@ -206,6 +204,7 @@ class Runner:
         #: called after each tool call with ``(tool, case, ctx, failed)``; the call log hooks in here
         self.on_call: Callable[[Tool, Any, CallContext, list[str]], None] | None = None
         self._calls_since_alive = 0
+        self._unpinged: Any = None  # the last case after which liveness was not checked yet
         self.checks: list[Check] = select_checks(self.options.checks, self.options.skip_checks)
         self.report = RunReport(target=target)
         self.session: Session | None = None
@@ -213,10 +212,8 @@ class Runner:
         self.pool = self.options.values if self.options.values is not None else ValuePool()
         self.last_call: CallContext | None = None
         self._world: Any = None
-        settings = self.options.settings
-        if not settings.secrets:
-            settings = CheckSettings(settings.strict_go, settings.latency_budget, secret_values(dict(target.env)))
-        self.settings = settings
+        self.redactor = self.options.redactor or redactor_for(target)
+        self.settings = _with_target(self.options.settings, target, self.redactor)
 
     # -- session handling ----------------------------------------------------------------------------
     def open(self) -> Session:
@@ -288,6 +285,17 @@ class Runner:
         self._write_replays()
         return self.report
 
+    def audit(self) -> RunReport:
+        """Only the catalog checks (``feeler audit``): the catalog is read, no tool is called."""
+        try:
+            self.open()
+            self.audit_catalog()
+            for tool in self.tools():
+                self._catalog_checks(tool, self.stats(tool))
+        finally:
+            self.close()
+        return self.report
+
     def tools(self) -> list[Tool]:
         """The catalog's tools after include/exclude (glob patterns)."""
         from fnmatch import fnmatchcase
@@ -316,6 +324,8 @@ class Runner:
         """Run *kinds* of cases for one tool; returns the findings that are new."""
         before = self.report.findings.signatures()
         stats = self.stats(tool)
+        if "catalog" in kinds and not self.report.tools_audited:
+            self.audit_catalog()
         self.progress(f"{tool.name}: " + ", ".join(kinds))
         if "catalog" in kinds:
             self._catalog_checks(tool, stats)
@@ -334,8 +344,21 @@ class Runner:
             self._probes(tool, stats)
         if "go" in kinds and not reason:
             self._evaluate(CallContext("tool", tool, self.revision, self.era, self.settings, stats=stats))
+        if self._unpinged is not None and not self.options.dry_run:
+            # Liveness once more at the end of each tool, so a wedged server shows even with few calls.
+            last, self._unpinged, self._calls_since_alive = self._unpinged, None, 0
+            if self._alive(tool, last):
+                self._restart()
         self._coverage(tool, stats)
-        return [f for f in self.report.findings if f.signature not in before]
+        return [
+            f for f in self.report.findings
+            if f.signature not in before or (tool.name in f.tools[1:] and f"{f.signature}@{tool.name}" not in before)
+        ]  # fmt: skip
+
+    def audit_catalog(self) -> None:
+        """The catalog-wide checks (``catalog`` kind, no tool): names unique, size, near-duplicates."""
+        self.report.tools_audited = True
+        self._evaluate(CallContext("catalog", None, self.revision, self.era, self.settings, catalog=self.report.catalog))
 
     @property
     def revision(self) -> str:
@@ -470,11 +493,12 @@ class Runner:
         except _CaseFailed:
             pass
         except BaseException as exc:  # an exception group of several distinct failures, or our abort
-            if not all(isinstance(e, _CaseFailed) for e in getattr(exc, "exceptions", [exc])):
-                if isinstance(exc, (KeyboardInterrupt, SystemExit)):
-                    raise
-                if not isinstance(exc, _ToolAbandoned):
-                    raise
+            # (a flaky server, e.g. one that is only sometimes slow, gives hypothesis a FlakyFailure group
+            # of our own exceptions: that is the server's behaviour, already recorded as findings)
+            if isinstance(exc, (KeyboardInterrupt, SystemExit)) or not all(
+                isinstance(e, (_CaseFailed, _ToolAbandoned)) for e in _leaves(exc)
+            ):
+                raise
 
     def _nogo(self, tool: Tool, stats: ToolStats) -> None:
         from feeler.generate import Case, nogo_cases
@@ -537,8 +561,9 @@ class Runner:
             self.on_call(tool, case, ctx, failed)
         self._calls_since_alive += 1
         alive_failed: list[str] = []
+        self._unpinged = case
         if failed or ctx.failure is not None or self._calls_since_alive >= max(1, self.options.alive_every):
-            self._calls_since_alive = 0
+            self._calls_since_alive, self._unpinged = 0, None
             alive_failed = self._alive(tool, case)
         if alive_failed or isinstance(ctx.failure, ServerExited):
             if not self._restart():
@@ -598,25 +623,28 @@ class Runner:
     def _record(self, ctx: CallContext, check: str, problem: Problem) -> None:
         case = ctx.case
         ex = ctx.exchange
+        red = self.redactor
+        request, answer = self._request_text(ctx), self._answer_text(ex)
         finding = Finding(
             check=check,
             severity=problem.severity or "error",
             tool=ctx.tool.name if ctx.tool else None,
             kind=ctx.kind if ctx.kind != "alive" else (getattr(case, "kind", None) or "alive"),
-            message=problem.message,
+            message=red.text(problem.message),
             error_class=problem.error_class,
             keyword=getattr(case, "keyword", None),
             path=getattr(case, "path", None),
             keyword_location=getattr(case, "schema_path", None) or None,
             source=getattr(case, "source", None),
             boundary=bool(getattr(case, "is_boundary", False)),
-            arguments=getattr(case, "arguments", None),
+            arguments=red.json(getattr(case, "arguments", None)),
             revision=self.revision,
-            request_text=self._request_text(ctx),
-            answer_text=self._answer_text(ex),
+            request_text=red.text(request) if request else request,
+            answer_text=red.text(answer) if answer else answer,
+            tools=list(problem.tools),
         )
         if self.report.findings.add(finding):
-            self.progress(f"  {finding.severity}: [{check}] {finding.tool or ''} {problem.message}")
+            self.progress(f"  {finding.severity}: [{check}] {finding.tool or ''} {finding.message}")
 
     def _request_text(self, ctx: CallContext) -> str | None:
         # The replay re-sends the call that showed the finding (for "alive", the case before the ping).
@@ -646,6 +674,28 @@ class Runner:
                 finding.replay = write_replay(self.options.replay_dir, self.target, finding)
 
 
+def _leaves(exc: BaseException, depth: int = 0) -> list[BaseException]:
+    """The non-group exceptions inside *exc* (nested exception groups flattened, bounded depth)."""
+    inner = getattr(exc, "exceptions", None)
+    if not inner or depth > 20:
+        return [exc]
+    return [leaf for e in inner for leaf in _leaves(e, depth + 1)]
+
+
+def _with_target(settings: CheckSettings, target: Target, redactor: Redactor) -> CheckSettings:
+    """*settings* completed with what the target tells: its secrets and the paths the user gave it."""
+    from dataclasses import replace
+
+    given: set[str] = set(settings.given_paths)
+    base = target.cwd or os.getcwd()
+    for arg in [*target.command, *([target.cwd] if target.cwd else [])]:
+        for part in str(arg).split("="):
+            if os.path.isabs(part) or (os.sep in part and not part.startswith("-")):
+                full = os.path.normpath(os.path.join(base, part))
+                given |= {full, os.path.realpath(full)}
+    paths = tuple(sorted(given))
+    secrets = settings.secrets or redactor.values
+    return replace(settings, secrets=secrets, given_paths=paths)
 def _database_key(tool: Tool) -> bytes:
     # The tool and its schema, not the target spec: shards and workers on other machines share examples.
     import hashlib

@@ -97,11 +97,24 @@ def diff_tool(old: Tool, new: Tool, *, samples: int = DEFAULT_SAMPLES) -> Iterat
             yield _c(f"tool-{key}", Verdict.REVIEW, f"{key} changed (it steers a model's choice of tools; "
                      "read the new text)", subject, reason=f"{_short(old.raw.get(key))} -> "
                      f"{_short(new.raw.get(key))}")
+    yield from _poison_added(old, new, subject)
     eo = (old.raw.get("execution") or {}).get("taskSupport", "forbidden")
     en = (new.raw.get("execution") or {}).get("taskSupport", "forbidden")
     if eo != en:
         verdict = Verdict.BREAKING if en == "required" else Verdict.COMPATIBLE
         yield _c("task-support", verdict, f"execution.taskSupport {eo!r} -> {en!r}", subject)
+
+
+def _poison_added(old: Tool, new: Tool, subject: str) -> Iterator[Change]:
+    """Text aimed at the model (:mod:`feeler.check.poison`) that the new tool carries and the old did not:
+    a review that blocks the release until a person has read it."""
+    from feeler.check.poison import REASONS, scan
+
+    before = {(s.reason, s.where) for s in scan(old.raw)}
+    for s in scan(new.raw):
+        if (s.reason, s.where) not in before:
+            yield _c("poisoned-description", Verdict.REVIEW, f"{s.where} now {REASONS[s.reason]} (read it before "
+                     "releasing: a model follows it)", subject, reason=f"{s.reason}: {s.excerpt!r}", blocks=True)
 
 
 def _output_schema(old: Tool, new: Tool, subject: str, samples: int) -> Iterator[Change]:
@@ -285,8 +298,8 @@ class DiffReport:
 
     @property
     def exit_code(self) -> int:
-        """1 when any change is breaking or likely-breaking, else 0 (see diff-docs: likely counts)."""
-        return 1 if self.breaking else 0
+        """1 when any change is breaking, likely-breaking or a blocking review, else 0 (see diff-docs)."""
+        return 1 if any(c.fails for c in self.changes) else 0
 
     def to_json(self) -> dict[str, Any]:
         counts: dict[str, int] = {}

@@ -112,7 +112,7 @@ def diff_schemas(
     if old == new:
         return []
     if limit := schema_limit_problem(old) or schema_limit_problem(new):  # feeler._limits: refuse before recursing
-        return [Change(kind="schema-limit", direction=direction, verdict=Verdict.LIKELY_BREAKING, message=limit, subject=subject)]
+        return [Change(rule="schema-limit", direction=direction, verdict=Verdict.LIKELY_BREAKING, message=limit, subject=subject)]
     walk = _Walk(direction, old, new, subject, samples)
     _visit(walk, _norm(old), _norm(new), [], [], frozenset(), 0)
     _sample_compatible(walk)

@@ -115,6 +115,9 @@ class Change:
     has_witness: bool = field(default=False)
     #: True when the change adds something clients may start to use (an input accepting more values).
     addition: bool = False
+    #: A ``review`` a person must clear before release: it fails ``feeler diff`` like a breaking change
+    #: and bumps major (e.g. a description that now carries text aimed at the model).
+    blocks: bool = False
 
     @property
     def bump(self) -> str:
@@ -124,6 +127,11 @@ class Change:
     def is_breaking(self) -> bool:
         """True for breaking *and* likely-breaking: both fail `feeler diff` (see diff-docs)."""
         return self.verdict in (Verdict.BREAKING, Verdict.LIKELY_BREAKING)
+
+    @property
+    def fails(self) -> bool:
+        """True when the change fails ``feeler diff``: breaking, likely-breaking, or a blocking review."""
+        return self.is_breaking or self.blocks
 
     def to_json(self) -> dict[str, Any]:
         out: dict[str, Any] = {
@@ -143,6 +151,8 @@ class Change:
             out["reason"] = self.reason
         if self.hint:
             out["hint"] = self.hint
+        if self.blocks:
+            out["blocks"] = True
         return out
 
 
@@ -171,7 +181,7 @@ def bump_for(change: Change) -> str:
     addition of functionality -> ``minor`` (item 7); every other change -> ``patch`` (item 6).
     A compatible input widening counts as an addition (new arguments are accepted), so ``minor``.
     """
-    if change.is_breaking:
+    if change.is_breaking or change.blocks:
         return "major"
     if change.verdict is Verdict.COMPATIBLE and (change.rule in ADDITIVE_KINDS or change.addition):
         return "minor"

@@ -39,7 +39,8 @@ def _summary(report: DiffReport) -> str:
 def text(report: DiffReport) -> str:
     lines = [f"feeler diff: {report.old_label} -> {report.new_label}"]
     for c in report.changes:
-        lines.append(f"  [{_LABEL[c.verdict]}] {_where(c)}: {c.message} ({c.rule}, {c.bump})")
+        label = _LABEL[c.verdict] + (", blocks release" if c.blocks else "")
+        lines.append(f"  [{label}] {_where(c)}: {c.message} ({c.rule}, {c.bump})")
         if c.hint:
             lines.append(f"      hint: {c.hint}")
         if c.has_witness:
@@ -58,7 +59,7 @@ def _md_cell(s: str) -> str:
 
 def markdown(report: DiffReport) -> str:
     """Markdown for a pull-request comment or a CI step summary: headline, then a table."""
-    icon = "breaking changes" if report.breaking else "no breaking changes"
+    icon = "breaking changes" if report.breaking else ("a review blocks release" if report.exit_code else "no breaking changes")
     lines = [f"### feeler diff: {icon} (semver: **{report.bump}**)", "",
              f"`{_md_cell(report.old_label)}` → `{_md_cell(report.new_label)}`: {_summary(report)}", ""]
     if report.changes:

@@ -4,11 +4,20 @@ The calling thread reads stdout itself (``select`` + ``os.read``), so a round tr
 stderr is drained by one daemon thread into a bounded buffer, kept for error messages and reports.
 Shutdown follows the spec's advice (MCP 2025-11-25 basic/lifecycle, "stdio" shutdown): close stdin,
 wait, SIGTERM to the process group, wait, SIGKILL to the process group.
+
+Process hygiene: each server starts in its own session and process group; a transport still open when
+feeler exits is closed by an ``atexit`` hook (SIGTERM and SIGHUP unwind through ``feeler._signals``).
+Every server gets ``FEELER_SERVER_TAG`` in its environment; on close, a process that still carries the
+tag but left the server's process group (e.g. a grandchild started with ``setsid``) is named in a
+:class:`EscapedProcessWarning` (Linux, where ``/proc`` shows environments).
 """
 
 from __future__ import annotations
 
+import atexit
+import itertools
 import os
+import select
 import selectors
 import shutil
 import signal
@@ -16,13 +25,36 @@ import subprocess
 import sys
 import threading
 import time
+import warnings
+import weakref
 from collections import deque
 from collections.abc import Mapping, Sequence
 
 from feeler.errors import ConnectError, RequestTimeout, ResponseTooLarge, ServerExited, TargetError
 from feeler.transport.base import DEFAULT_MAX_MESSAGE_BYTES, Inbound, Transport
 
-__all__ = ["StdioTransport"]
+__all__ = ["EscapedProcessWarning", "StdioTransport", "TAG_NAME"]
+
+#: The environment variable that marks every process a server (and its children) runs as.
+TAG_NAME = "FEELER_SERVER_TAG"
+_TAGS = itertools.count(1)
+#: Open transports, closed at interpreter exit if nobody closed them.
+_LIVE: weakref.WeakSet[StdioTransport] = weakref.WeakSet()
+
+
+class EscapedProcessWarning(UserWarning):
+    """A process started by the server left its process group and outlived the server."""
+
+
+def _close_live() -> None:
+    for transport in list(_LIVE):
+        try:
+            transport.close()
+        except Exception:  # noqa: BLE001 - best effort at exit; the next one must still be closed
+            pass
+
+
+atexit.register(_close_live)
 
 #: How much of the server's stderr is kept (the tail).
 STDERR_KEEP_BYTES = 64 * 1024
@@ -102,6 +134,8 @@ class StdioTransport(Transport):
         self._discarding = False
         self._selector: selectors.BaseSelector | None = None
         self._eof = False
+        self._tag = ""
+        self._exit_waited = False
 
     # -- life cycle ----------------------------------------------------------------------------
     def open(self, timeout: float) -> None:
@@ -110,7 +144,8 @@ class StdioTransport(Transport):
             raise ConnectError(
                 f"command not found: {program!r}; check the command after `--` and your PATH", target=self.target
             )
-        env = {**os.environ, **self.env}
+        self._tag = f"{os.getpid()}.{next(_TAGS)}.{time.time_ns()}"
+        env = {**os.environ, **self.env, TAG_NAME: self._tag}
         try:
             self.proc = subprocess.Popen(
                 self.command,
@@ -129,7 +164,9 @@ class StdioTransport(Transport):
             raise ConnectError(f"cannot start the server: {program!r} is not executable", target=self.target) from exc
         except OSError as exc:
             raise ConnectError(f"cannot start the server: {exc}", target=self.target) from exc
-        assert self.proc.stdout is not None and self.proc.stderr is not None
+        _LIVE.add(self)
+        assert self.proc.stdin is not None and self.proc.stdout is not None and self.proc.stderr is not None
+        os.set_blocking(self.proc.stdin.fileno(), False)  # send() waits with select, bounded by its timeout
         self._stderr = _StderrTail(self.proc.stderr)
         self._selector = selectors.DefaultSelector()
         self._selector.register(self.proc.stdout.fileno(), selectors.EVENT_READ)
@@ -146,14 +183,36 @@ class StdioTransport(Transport):
 
     # -- wire ----------------------------------------------------------------------------------
     def send(self, text: str, *, headers: Mapping[str, str] | None = None, timeout: float = 30.0) -> None:
+        """Write one line, waiting at most *timeout* for the server to take it.
+
+        While the server's stdin is full its stdout is drained into the buffer: a server blocked writing
+        answers nobody reads would otherwise never read again, and both sides would wait forever.
+        """
         proc = self._require_open()
         data = (text if text.endswith("\n") else text + "\n").encode("utf-8")
+        assert proc.stdin is not None and proc.stdout is not None
+        fd_in, fd_out = proc.stdin.fileno(), proc.stdout.fileno()
+        deadline = time.monotonic() + timeout
+        view = memoryview(data)
         try:
-            assert proc.stdin is not None
-            view = memoryview(data)
             while view:
-                written = os.write(proc.stdin.fileno(), view)
-                view = view[written:]
+                try:
+                    view = view[os.write(fd_in, view):]
+                    continue
+                except BlockingIOError:
+                    pass
+                remaining = deadline - time.monotonic()
+                if remaining <= 0:
+                    raise RequestTimeout(f"the server took no input for {timeout:g}s (its stdin is full)",
+                                         target=self.target)
+                drain = not self._eof and len(self._buf) <= 2 * self.max_message_bytes
+                readable, _, _ = select.select([fd_out] if drain else [], [fd_in], [], remaining)
+                if readable:
+                    chunk = os.read(fd_out, _READ_CHUNK)
+                    if chunk:
+                        self._buf += chunk
+                    else:
+                        self._eof = True
         except (BrokenPipeError, ConnectionResetError, ValueError, OSError) as exc:
             raise self._exited("the server stopped reading its stdin") from exc
 
@@ -222,12 +281,13 @@ class StdioTransport(Transport):
     def _exited(self, what: str) -> ServerExited:
         code = None
         if self.proc is not None:
-            try:
-                code = self.proc.wait(timeout=1.0)
+            try:  # a short wait for the exit status, once: a server that closed stdout may live on
+                code = self.proc.wait(timeout=0.0 if self._exit_waited else 0.5)
             except subprocess.TimeoutExpired:
                 code = self.proc.poll()
-        if self._stderr is not None:
-            self._stderr.join(0.5)
+            self._exit_waited = True
+        if self._stderr is not None and code is not None:
+            self._stderr.join(0.5)  # the tail of an exited server's stderr is complete once the pipe ends
         tail = self._stderr.tail() if self._stderr else ""
         status = f"exit code {code}" if code is not None and code >= 0 else (
             f"killed by signal {-code}" if code is not None else "still running"
@@ -245,21 +305,36 @@ class StdioTransport(Transport):
 
     # -- shutdown ------------------------------------------------------------------------------
     def close(self) -> None:
-        proc, self.proc = self.proc, None
+        proc = self.proc
         if proc is None:
             return
         try:
-            if proc.stdin is not None:
-                proc.stdin.close()
-        except OSError:
-            pass
-        if not _wait(proc, self.shutdown_grace):
-            _signal_group(proc, signal.SIGTERM)
+            try:
+                if proc.stdin is not None:
+                    proc.stdin.close()
+            except OSError:
+                pass
             if not _wait(proc, self.shutdown_grace):
-                _signal_group(proc, signal.SIGKILL)
-                _wait(proc, 5.0)
-        # The server may have left children in its group: they go with it.
-        _signal_group(proc, signal.SIGKILL, only_if_left=True)
+                _signal_group(proc, signal.SIGTERM)
+                if not _wait(proc, self.shutdown_grace):
+                    _signal_group(proc, signal.SIGKILL)
+                    _wait(proc, 5.0)
+        finally:
+            # Also when the waits above are cut short (Ctrl-C, SIGTERM): the group never outlives close().
+            # The server may have left children in its group: they go with it.
+            self.proc = None
+            _signal_group(proc, signal.SIGKILL, only_if_left=True)
+            _LIVE.discard(self)
+        escaped = _escaped(self._tag, proc.pid)
+        if escaped:
+            names = "; ".join(f"pid {pid} ({cmd})" for pid, cmd in escaped)
+            warnings.warn(
+                f"{self.target}: the server left {len(escaped)} process(es) running outside its process group, "
+                f"which feeler did not end: {names}; end them with `kill PID` and make the server keep its "
+                "children in its own process group",
+                EscapedProcessWarning,
+                stacklevel=2,
+            )
         if self._selector is not None:
             self._selector.close()
             self._selector = None
@@ -290,3 +365,28 @@ def _signal_group(proc: subprocess.Popen[bytes], sig: int, *, only_if_left: bool
         os.killpg(proc.pid, sig)
     except (ProcessLookupError, PermissionError):
         pass
+
+
+def _escaped(tag: str, group: int) -> list[tuple[int, str]]:
+    """Live processes carrying *tag* outside process group *group* (empty where ``/proc`` is missing)."""
+    if not os.path.isdir("/proc"):
+        return []
+    marker = f"{TAG_NAME}={tag}".encode()
+    found = []
+    for entry in os.listdir("/proc"):
+        if not entry.isdigit():
+            continue
+        try:
+            with open(f"/proc/{entry}/environ", "rb") as handle:
+                if marker not in handle.read().split(b"\0"):
+                    continue
+            with open(f"/proc/{entry}/stat", "rb") as handle:
+                fields = handle.read().rpartition(b")")[2].split()
+            with open(f"/proc/{entry}/cmdline", "rb") as handle:
+                cmdline = handle.read().replace(b"\0", b" ").decode("utf-8", "replace").strip()
+        except OSError:  # gone meanwhile, or not ours to read
+            continue
+        # proc(5) /proc/pid/stat: state is field 3, pgrp field 5 (here index 0 and 2, after the command)
+        if len(fields) > 2 and fields[0] not in (b"Z", b"X") and int(fields[2]) != group:
+            found.append((int(entry), cmdline[:120]))
+    return found

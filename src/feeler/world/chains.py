@@ -123,7 +123,18 @@ def _call(runner: Runner, tool: Tool, arguments: Any) -> CallContext:
         ctx.failure = exc
     if isinstance(ctx.failure, ServerExited):
         runner._restart()
+    if runner.on_call is not None:  # the call log (and a campaign's budget) see chain calls too
+        runner.on_call(tool, _ChainCall(arguments), ctx, [])
     return ctx
+
+
+@dataclass(frozen=True)
+class _ChainCall:
+    """What the runner's call hook reads of a case, for one step of a chain."""
+
+    arguments: Any
+    kind: str = "chain"
+    source: str = "chain"
 
 
 def _run_checks(checks: list[Check], ctx: CallContext) -> list[tuple[str, Problem]]:

@@ -97,12 +97,13 @@ class World:
             last = failure.steps[-1]
             ex = failure.ctx.exchange
             answers = [f.text for f in ex.frames if f.direction == "in"] if ex is not None else []
+            red = runner.redactor  # secrets never reach a report or a replay file (feeler.redact)
             finding = Finding(
                 check=failure.check, severity=failure.problem.severity or "error", tool=last.tool, kind="chain",
-                message=failure.problem.message, error_class=failure.problem.error_class,
-                path=getattr(failure.ctx.case, "path", None) or None, arguments=last.arguments,
-                revision=runner.revision, request_text=ex.request_text if ex is not None else None,
-                answer_text=answers[-1] if answers else None,
+                message=red.text(failure.problem.message), error_class=failure.problem.error_class,
+                path=getattr(failure.ctx.case, "path", None) or None, arguments=red.json(last.arguments),
+                revision=runner.revision, request_text=red.text(ex.request_text) if ex is not None else None,
+                answer_text=red.text(answers[-1]) if answers else None,
                 extra={"sequence": [s.to_json() for s in failure.steps]},
             )  # fmt: skip
             if runner.report.findings.add(finding):

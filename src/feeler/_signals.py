@@ -1,0 +1,52 @@
+"""SIGTERM and SIGHUP end feeler the way Ctrl-C does: by unwinding, so every server it started is ended.
+
+Python's default for SIGTERM and SIGHUP is to die at once, skipping ``finally`` blocks and ``atexit``
+(Python docs, ``signal``: "SIGTERM ... default action"; POSIX: the default action terminates the
+process), which would leave stdio servers orphaned. :func:`install` replaces that default with a
+handler raising :class:`Stopped`, a :class:`KeyboardInterrupt`, so the CLI and pytest shut down as after
+Ctrl-C. A handler someone else installed is left alone. Further signals are ignored while the first
+one is being handled, so the bounded shutdown of the servers is not cut short.
+"""
+
+from __future__ import annotations
+
+import signal
+import threading
+from typing import Any
+
+__all__ = ["Stopped", "install"]
+
+_SIGNALS = tuple(getattr(signal, name) for name in ("SIGTERM", "SIGHUP") if hasattr(signal, name))
+
+
+class Stopped(KeyboardInterrupt):
+    """feeler was asked to stop by *signum*; the exit code is ``128 + signum`` (shell convention)."""
+
+    def __init__(self, signum: int) -> None:
+        super().__init__(signal.Signals(signum).name)
+        self.signum = signum
+
+    @property
+    def exit_code(self) -> int:
+        return 128 + self.signum
+
+
+def _handler(signum: int, frame: Any) -> None:
+    for sig in _SIGNALS:
+        signal.signal(sig, signal.SIG_IGN)  # one stop at a time: let the shutdown finish
+    raise Stopped(signum)
+
+
+def install() -> list[int]:
+    """Install the handler for SIGTERM and SIGHUP where the default action is still set.
+
+    Returns the signals it took over (none outside the main thread, where Python allows no handlers).
+    """
+    if threading.current_thread() is not threading.main_thread():
+        return []
+    taken = []
+    for sig in _SIGNALS:
+        if signal.getsignal(sig) in (signal.SIG_DFL, None) or signal.getsignal(sig) is _handler:
+            signal.signal(sig, _handler)
+            taken.append(sig)
+    return taken

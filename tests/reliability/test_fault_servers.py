@@ -1,0 +1,179 @@
+"""The fault suite: a real ``feeler check`` subprocess against each misbehaving server of tests/servers/.
+
+Each case must end within its bound with a finding (exit 1) or a clear one-line error (exit 2), never a
+traceback (exit 3) or a hang, the run must go on with the healthy ``echo`` tool where it can, and after
+each case no process of the case may be left running (found by an environment marker, see _procs.py).
+References: JSON-RPC 2.0 section 5 (one response object: "jsonrpc" exactly "2.0", exactly one of result
+and error), MCP 2025-11-25 basic/transports "stdio" (stdout carries only MCP messages, newline-delimited
+UTF-8) and basic/lifecycle "Shutdown" (close stdin, SIGTERM, SIGKILL), POSIX signals (exit 128+N).
+"""
+
+from __future__ import annotations
+
+import os
+import re
+import signal
+import time
+import uuid
+from dataclasses import dataclass, field
+from pathlib import Path
+
+import pytest
+from _procs import MARKER, kill_all, left_running, marked, server, start_feeler
+
+from feeler.cli import run
+
+pytestmark = pytest.mark.skipif(not os.path.isdir("/proc"), reason="needs /proc (Linux) to find leftovers")
+
+QUICK = ["check", "--timeout", "2", "--samples", "0", "--no-probes", "--replay-dir", "replays"]
+
+
+@dataclass
+class Fault:
+    server: str
+    codes: tuple[int, ...]
+    shows: str  # a substring of stdout+stderr that names the fault
+    echo_tested: bool = True  # the healthy tool was still tested
+    env: dict[str, str] = field(default_factory=dict)
+    extra: tuple[str, ...] = ()
+    bound: float = 120.0
+    slow: bool = False
+
+
+FAULTS = [
+    Fault("closes_stdout", (1,), "the server closed its stdout"),
+    Fault("floods_stderr", (0,), "0 findings", env={"FEELER_FLOOD_MIB": "4"}),
+    Fault("answers_twice", (1,), "[server_alive]"),
+    Fault("invalid_utf8", (1,), "bad"),
+    Fault("sometimes_slow", (1,), "no answer within 2s", env={"FEELER_SLEEP_S": "3"}),
+    Fault("wrong_jsonrpc_version", (1,), "\"jsonrpc\" is '1.0', not \"2.0\""),
+    Fault("result_and_error", (1,), "bad"),
+    Fault("no_newline_then_hang", (1,), "no answer within 1s", extra=("--timeout", "1")),
+    Fault("banner_line", (0, 1), "echo"),
+    Fault("cursor_loops", (2,), "tools/list: more than 1000 pages; giving up", echo_tested=False),
+    Fault("string_tool_entry", (2,), "tools[0] in the list the server sent is not a JSON object ('lookup')",
+          echo_tested=False),
+    Fault("huge_answer", (1,), "exceeded the size cap", env={"FEELER_HUGE_MIB": "50"}, echo_tested=False,
+          extra=("--max-message-bytes", "1048576"), slow=True),
+    Fault("ignores_sigterm", (0,), "0 findings", env={"FEELER_LINGER_S": "60"}),
+    Fault("oversized_schemas", (1,), "nests more than 64 levels deep", extra=("--max-message-bytes", "16777216")),
+    Fault("many_tools", (0,), "echo_1999", echo_tested=False, extra=("--include", "echo_1999")),
+]
+
+
+def _params() -> list[object]:
+    return [pytest.param(f, id=f.server, marks=[pytest.mark.slow] if f.slow else []) for f in FAULTS]
+
+
+def _check_in_process(argv: list[str], tag: str, env: dict[str, str], capsys: pytest.CaptureFixture[str],
+                      monkeypatch: pytest.MonkeyPatch, tmp_path: Path) -> tuple[int, str, str]:
+    """``feeler check`` in this process (jsonschema is imported once, so a case takes seconds); the
+    servers it starts inherit the case's marker."""
+    monkeypatch.chdir(tmp_path)
+    for name, value in {**env, MARKER: tag}.items():
+        monkeypatch.setenv(name, value)
+    code = run(argv)
+    captured = capsys.readouterr()
+    return code, captured.out, captured.err
+
+
+@pytest.mark.parametrize("fault", _params())
+def test_fault_is_reported_and_nothing_is_left(fault: Fault, tmp_path: Path, capsys: pytest.CaptureFixture[str],
+                                               monkeypatch: pytest.MonkeyPatch) -> None:
+    tag = uuid.uuid4().hex
+    try:
+        code, out, err = _check_in_process([*QUICK, *fault.extra, "--", *server(fault.server)], tag, fault.env,
+                                           capsys, monkeypatch, tmp_path)
+        text = out + err
+        assert "Traceback" not in text, text[-3000:]
+        assert code in fault.codes, text[-3000:]
+        assert fault.shows in text, text[-3000:]
+        if fault.echo_tested:
+            assert re.search(r"^echo\b", out, re.M), out[-2000:]
+        if code == 2:  # a clear error is one line on stderr
+            assert len([line for line in err.splitlines() if line.startswith("feeler:")]) == 1, err
+    finally:
+        left = left_running(tag)
+        kill_all(left)
+    assert left == {}, f"left running after {fault.server}: {left}"
+
+
+def test_escaped_grandchild_is_named_and_the_grouped_one_ended(tmp_path: Path, capsys: pytest.CaptureFixture[str],
+                                                               monkeypatch: pytest.MonkeyPatch) -> None:
+    """A child in the server's process group goes with the group; one in its own session (setsid(2))
+    survives it and is named in a warning with its pid."""
+    tag = uuid.uuid4().hex
+    try:
+        code, out, err = _check_in_process([*QUICK, "--", *server("forks_grandchild")], tag,
+                                           {"FEELER_CHILD_S": "60"}, capsys, monkeypatch, tmp_path)
+        assert "Traceback" not in err and code == 0, err[-2000:]
+        named = re.findall(r"feeler: warning: .*outside its process group.*?pid (\d+)", err)
+        assert named, err[-2000:]
+        alive = marked(tag)
+        assert set(alive) == {int(named[0])}, alive  # only the escaped one: the grouped child was ended
+    finally:
+        kill_all(marked(tag))
+    assert left_running(tag) == {}
+
+
+SLOW = pytest.mark.slow
+STOPS = [  # (server, signal, exit code, message); each starts a real feeler process (seconds of imports)
+    pytest.param("hangs_on_call", signal.SIGTERM, 128 + signal.SIGTERM, "stopped by SIGTERM", id="hangs-SIGTERM"),
+    pytest.param("ignores_sigterm", signal.SIGHUP, 128 + signal.SIGHUP, "stopped by SIGHUP", id="ignores-SIGHUP"),
+    pytest.param("hangs_on_call", signal.SIGHUP, 128 + signal.SIGHUP, "stopped by SIGHUP", id="hangs-SIGHUP", marks=SLOW),
+    pytest.param("hangs_on_call", signal.SIGINT, 130, "interrupted", id="hangs-SIGINT", marks=SLOW),
+    pytest.param("ignores_sigterm", signal.SIGTERM, 128 + signal.SIGTERM, "stopped by SIGTERM", id="ignores-SIGTERM",
+                 marks=SLOW),
+    pytest.param("ignores_sigterm", signal.SIGINT, 130, "interrupted", id="ignores-SIGINT", marks=SLOW),
+]
+
+
+@pytest.mark.parametrize(("name", "signum", "code", "says"), STOPS)
+def test_feeler_stopped_mid_run_ends_its_server(tmp_path: Path, signum: int, code: int, says: str, name: str) -> None:
+    """feeler killed mid-run leaves no server behind, even one that ignores SIGTERM (it gets SIGKILL)."""
+    run = start_feeler(tmp_path, "check", "--timeout", "30", "--no-probes", "--", *server(name),
+                       env={"FEELER_LINGER_S": "60"})
+    try:
+        deadline = time.monotonic() + 60
+        while not any(name in cmd for cmd in marked(run.tag).values()):  # bounded: the server has started
+            assert time.monotonic() < deadline and run.proc.poll() is None, run.stderr()[-2000:]
+            time.sleep(0.1)
+        time.sleep(1.0)  # let it get to the calls (hangs_on_call never answers one)
+        os.kill(run.proc.pid, signum)
+        assert run.wait(30) == code, run.stderr()[-2000:]
+        assert says in run.stderr() and "Traceback" not in run.stderr()
+    finally:
+        left = left_running(run.tag)
+        kill_all(left)
+        run.kill()
+    assert left == {}, f"left running: {left}"
+
+
+def test_pytest_stopped_mid_run_ends_its_server(tmp_path: Path) -> None:
+    """The plugin's runs too: SIGTERM to pytest unwinds like Ctrl-C (pytest exit code 2, "interrupted"),
+    and the session teardown ends the server (pytest docs "Exit codes")."""
+    import subprocess
+    import sys
+
+    command = " ".join(server("hangs_on_call"))
+    (tmp_path / "pyproject.toml").write_text(f'[tool.feeler]\ntargets = {{ hang = {command!r} }}\ntimeout = 30\n')
+    tag = uuid.uuid4().hex
+    with open(tmp_path / "out.txt", "wb") as out:
+        proc = subprocess.Popen([sys.executable, "-m", "pytest", "-p", "no:cacheprovider", "-q", "-k", "echo"],
+                                cwd=tmp_path, stdout=out, stderr=subprocess.STDOUT, start_new_session=True,
+                                env={**os.environ, MARKER: tag})
+    try:
+        deadline = time.monotonic() + 60
+        while not any("hangs_on_call" in cmd for cmd in marked(tag).values()):  # bounded
+            assert time.monotonic() < deadline and proc.poll() is None, (tmp_path / "out.txt").read_text()[-2000:]
+            time.sleep(0.1)
+        time.sleep(1.5)  # into the calls: hangs_on_call never answers one
+        os.kill(proc.pid, signal.SIGTERM)
+        assert proc.wait(40) == 2, (tmp_path / "out.txt").read_text()[-2000:]
+    finally:
+        left = left_running(tag)
+        kill_all(left)
+        if proc.poll() is None:
+            os.killpg(proc.pid, signal.SIGKILL)
+            proc.wait(10)
+    assert left == {}, f"left running: {left}"
