@@ -453,7 +453,8 @@ class Runner:
         if stats.world.hint:
             self.report.findings.drop(
                 f.signature for f in self.report.findings
-                if f.tool == tool.name and f.kind == "go" and f.error_class in ("refused-valid", "is-error")
+                # only this tool's own findings: one merged over several tools stays for the others
+                if (f.tools or [f.tool]) == [tool.name] and f.kind == "go" and f.error_class in ("refused-valid", "is-error")
             )  # fmt: skip
 
     def _drawn_go(self, tool: Tool, stats: ToolStats, strategy: Any) -> None:
