@@ -12,7 +12,10 @@ import json
 from collections.abc import Callable, Mapping
 from typing import Any
 
-from jsonschema import Draft202012Validator
+import re
+
+from jsonschema import Draft202012Validator, validators
+from jsonschema.exceptions import ValidationError
 from mcp.server.mcpserver.exceptions import ToolError, UnexpectedToolError
 from mcp.server.mcpserver.tools import Tool
 from mcp.server.mcpserver.utilities.func_metadata import ArgModelBase, FuncMetadata
@@ -38,7 +41,7 @@ class DeclaredTool(Tool):
     async def run(self, arguments: dict[str, Any], context: Any, convert_result: bool = False) -> Any:
         if self._checker is None:
             # Formats are asserted, not just annotated: a date or an address the schema names is checked.
-            self._checker = Draft202012Validator(self.parameters, format_checker=Draft202012Validator.FORMAT_CHECKER)
+            self._checker = _Validator(self.parameters, format_checker=Draft202012Validator.FORMAT_CHECKER)
         errors = sorted(self._checker.iter_errors(arguments), key=lambda e: [str(p) for p in e.path])
         if errors:
             # A tool execution error the caller can act on (MCP 2025-11-25 server/tools, "Error Handling").
@@ -57,6 +60,21 @@ class DeclaredTool(Tool):
             content=[TextContent(type="text", text=json.dumps(value, ensure_ascii=False))],
             structured_content=value,
         )
+
+
+def _pattern(validator: Any, regex: str, instance: Any, schema: Any) -> Any:
+    # JSON Schema reads patterns as ECMA-262, where a final "$" matches only at the very end; Python's "$"
+    # also matches before a final newline, so the demo's patterns (all anchored by a final "$") end in \Z here.
+    if not validator.is_type(instance, "string"):
+        return
+    if regex.endswith("$") and not regex.endswith("\\$"):
+        regex = regex[:-1] + "\\Z"
+    if not re.search(regex, instance):
+        yield ValidationError(f"{instance!r} does not match {regex!r}")
+
+
+#: jsonschema's 2020-12 validator with ``pattern`` read as ECMA-262 reads an anchored pattern.
+_Validator = validators.extend(Draft202012Validator, {"pattern": _pattern})
 
 
 def declared_tool(
