@@ -18,6 +18,7 @@ This module stays cheap to import: everything heavy is imported inside hooks.
 
 from __future__ import annotations
 
+import os
 from typing import TYPE_CHECKING, Any
 
 import pytest
