@@ -55,6 +55,8 @@ SUMMARIES: dict[str, str] = {
     "approve": "Show the differences from the baseline, then write the new one.",
     "report": "Join and render report documents (feeler-report.json).",
     "campaign": "Test a server for a fixed time budget (nightly runs, shards, resume).",
+    "audit": "Audit what a server advertises: schemas, names, descriptions, size, poisoned text.",
+    "auth": "Check an HTTP server's authorization from outside (loopback only).",
 }
 
 
