@@ -137,6 +137,10 @@ ROWS = [
         "larger than 1,048,576 bytes"),
     Row("20,000-value enum", lambda d: _write(d / "s.json", {"enum": list(range(20_000))}), ["cases", "s.json"], 2,
         "has 20,000 values, over the limit of 5,000"),
+    # Catastrophic backtracking (a hang in a backtracking oracle) is refused by generate/_ecma.py.
+    Row("pattern ^(a+)+$ with minLength 30", lambda d: _write(d / "s.json", {"type": "object", "properties": {
+        "a": {"type": "string", "pattern": "^(a+)+$", "minLength": 30}}, "required": ["a"]}), ["cases", "s.json"], 2,
+        "nests an open-ended repeat inside another"),
 ]
 
 
