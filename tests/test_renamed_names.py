@@ -1,5 +1,5 @@
 """Former option, key and check names still work for one release, each with a one-line notice naming
-the new one (issue 12; the names are in /work/plan/VOCABULARY.md, the project's own decision)."""
+the new one (issue 12; the names are in DEVELOPERS.md, "Vocabulary")."""
 
 from __future__ import annotations
 

@@ -1,7 +1,6 @@
 """One spelling per idea across the command line, the check list, the config keys and the JSON reports.
 
-The names are the project's own decision (/work/plan/VOCABULARY.md, copied into DEVELOPERS.md
-"Vocabulary"); this test walks what a user sees and fails on a second spelling of the same idea.
+The names are the project's own decision (DEVELOPERS.md, "Vocabulary"); this test walks what a user sees and fails on a second spelling of the same idea.
 JSON key style: camelCase like MCP's own messages (MCP 2025-11-25 schema); locations are JSON Pointers
 (RFC 6901).
 """

@@ -38,7 +38,7 @@ from typing import Any
 from feeler.generate import ToolSchema, compile_schema
 from feeler.world.values import SOURCES, Value, ValuePool, pointer_of
 
-__all__ = ["CASE_SOURCES", "Applied", "Slot", "apply_values", "branches", "case_source", "get_at", "put_at", "slots", "with_values"]
+__all__ = ["CASE_SOURCES", "Applied", "Slot", "apply_values", "branches", "case_source", "get_at", "put_at", "slots", "unique_slots", "with_values"]
 
 _COMBINATORS = ("allOf", "anyOf", "oneOf")
 #: the pool sources put into every boundary and sampled case
@@ -127,6 +127,16 @@ def branches(ts: ToolSchema, node: Any, location: str = "", depth: int = 0) -> I
     for key in _COMBINATORS:
         for index, branch in enumerate(node.get(key) or []):
             yield from branches(ts, branch, f"{location}/{key}/{index}", depth + 1)
+
+
+def unique_slots(schema: Any, instances: Any) -> Iterator[Slot]:
+    """The slots of every instance in *instances*, each place (JSON Pointer) once, in first-seen order."""
+    done: set[str] = set()
+    for instance in instances:
+        for slot in slots(schema, instance):
+            if slot.pointer not in done:
+                done.add(slot.pointer)
+                yield slot
 
 
 def slots(schema: Any, instance: Any) -> list[Slot]:

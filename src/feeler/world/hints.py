@@ -37,20 +37,15 @@ def add_schema_hints(schema: Any, tool: str, pool: ValuePool, instances: Iterabl
 
     :returns: how many values were new in the pool.
     """
-    from feeler.world.apply import branches, slots
+    from feeler.world.apply import branches, unique_slots
 
     ts = compile_schema(schema)
     added = 0
-    done: set[str] = set()
-    for instance in instances:
-        for slot in slots(ts, instance):
-            if slot.pointer in done:
-                continue
-            done.add(slot.pointer)
-            for node, location in branches(ts, slot.schema, slot.location):
-                for keyword, value in _hints(node):
-                    if ts.valid_under(slot.schema, value):
-                        added += pool.add(slot.pointer, value, source="schema", provenance=f"{keyword} at {location}/{keyword}", tool=tool)
+    for slot in unique_slots(ts, instances):
+        for node, location in branches(ts, slot.schema, slot.location):
+            for keyword, value in _hints(node):
+                if ts.valid_under(slot.schema, value):
+                    added += pool.add(slot.pointer, value, source="schema", provenance=f"{keyword} at {location}/{keyword}", tool=tool)
     return added
 
 

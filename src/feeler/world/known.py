@@ -149,23 +149,18 @@ def check_known(schema: Any, tool: str, pool: ValuePool, instances: Iterable[Any
     :raises UsageError: naming the tool, the property, the value, the keyword it breaks and what to do.
     """
     from feeler.generate import compile_schema
-    from feeler.world.apply import slots
+    from feeler.world.apply import unique_slots
 
     ts = compile_schema(schema)
-    done: set[str] = set()
-    for instance in instances:
-        for slot in slots(ts, instance):
-            if slot.pointer in done:
+    for slot in unique_slots(ts, instances):
+        for value in pool.values_for(tool, slot.pointer, slot.name):
+            if value.source != "known" or ts.valid_under(slot.schema, value.value):
                 continue
-            done.add(slot.pointer)
-            for value in pool.values_for(tool, slot.pointer, slot.name):
-                if value.source != "known" or ts.valid_under(slot.schema, value.value):
-                    continue
-                error = min(ts.validator.evolve(schema=slot.schema).iter_errors(value.value), key=lambda e: len(e.path), default=None)
-                keyword = error.validator if error is not None else "?"
-                raise UsageError(
-                    f"{value.provenance}: tool {tool!r}, property {slot.name!r} ({slot.pointer}): the value "
-                    f"{value.value!r} breaks the schema keyword {keyword!r}"
-                    + (f" ({error.message})" if error is not None else "")
-                    + f"; give a value the schema accepts, or name the tool it is for (TOOL:{slot.name}=...)"
-                )
+            error = min(ts.validator.evolve(schema=slot.schema).iter_errors(value.value), key=lambda e: len(e.path), default=None)
+            keyword = error.validator if error is not None else "?"
+            raise UsageError(
+                f"{value.provenance}: tool {tool!r}, property {slot.name!r} ({slot.pointer}): the value "
+                f"{value.value!r} breaks the schema keyword {keyword!r}"
+                + (f" ({error.message})" if error is not None else "")
+                + f"; give a value the schema accepts, or name the tool it is for (TOOL:{slot.name}=...)"
+            )
