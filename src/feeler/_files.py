@@ -4,18 +4,8 @@ from __future__ import annotations
 
 import os
 import tempfile
-from typing import Any
 
-__all__ = ["read_json_file", "write_text_atomic"]
-
-
-def read_json_file(path: str, what: str) -> Any:
-    """The JSON value in *path*; a :class:`~feeler.errors.UsageError` naming *what* the file should be.
-
-    Read through :mod:`feeler._read` (special files refused, size cap, UTF-8 checked)."""
-    from feeler._read import read_json
-
-    return read_json(path, what=f"the {what}", expect=None, fix=f"give a {what} file written by feeler")
+__all__ = ["write_text_atomic"]
 
 
 def write_text_atomic(path: str, text: str) -> None:

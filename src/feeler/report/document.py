@@ -160,9 +160,9 @@ def validate_report(doc: Any) -> list[str]:
 
 def load_report(path: str) -> dict[str, Any]:
     """Read a report document; a user-facing error if it is not one."""
-    from feeler._files import read_json_file
+    from feeler._read import read_json
 
-    doc = read_json_file(path, "report")
+    doc = read_json(path, what="the report", expect=None, fix="give a report file written by feeler")
     if not isinstance(doc, dict) or doc.get("format") != REPORT_FORMAT:
         raise UsageError(f"{path}: not a feeler report (expected format {REPORT_FORMAT!r}); write one with --report-dir")
     return doc
