@@ -109,7 +109,11 @@ def test_escaped_grandchild_is_named_and_the_grouped_one_ended(tmp_path: Path, c
         assert "Traceback" not in err and code == 0, err[-2000:]
         named = re.findall(r"feeler: warning: .*outside its process group.*?pid (\d+)", err)
         assert named, err[-2000:]
+        deadline = time.monotonic() + 5.0  # bounded: a killed child may take a moment to leave /proc
         alive = marked(tag)
+        while set(alive) != {int(named[0])} and time.monotonic() < deadline:
+            time.sleep(0.1)
+            alive = marked(tag)
         assert set(alive) == {int(named[0])}, alive  # only the escaped one: the grouped child was ended
     finally:
         kill_all(marked(tag))
