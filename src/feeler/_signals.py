@@ -6,15 +6,20 @@ process), which would leave stdio servers orphaned. :func:`install` replaces tha
 handler raising :class:`Stopped`, a :class:`KeyboardInterrupt`, so the CLI and pytest shut down as after
 Ctrl-C. A handler someone else installed is left alone. Further signals are ignored while the first
 one is being handled, so the bounded shutdown of the servers is not cut short.
+
+Bookkeeping that must not be cut in half (a call counted but not yet written to the call log) runs
+inside :func:`held`: a stop signal arriving there is kept and raised when the block ends.
 """
 
 from __future__ import annotations
 
 import signal
 import threading
+from collections.abc import Iterator
+from contextlib import contextmanager
 from typing import Any
 
-__all__ = ["Stopped", "install"]
+__all__ = ["Stopped", "held", "install"]
 
 _SIGNALS = tuple(getattr(signal, name) for name in ("SIGTERM", "SIGHUP") if hasattr(signal, name))
 
@@ -31,10 +36,39 @@ class Stopped(KeyboardInterrupt):
         return 128 + self.signum
 
 
+_holding = 0  # depth of held() blocks on the main thread (handlers run only there)
+_pending: int | None = None
+
+
 def _handler(signum: int, frame: Any) -> None:
+    global _pending
     for sig in _SIGNALS:
         signal.signal(sig, signal.SIG_IGN)  # one stop at a time: let the shutdown finish
+    if _holding:
+        _pending = signum
+        return
     raise Stopped(signum)
+
+
+@contextmanager
+def held() -> Iterator[None]:
+    """Keep a SIGTERM/SIGHUP that arrives inside the block and raise it (as :class:`Stopped`) at its end.
+
+    For short bookkeeping only (counting a finished call and logging it): the block is not interrupted
+    halfway, so counts and logs agree. Outside the main thread it does nothing (no handler runs there).
+    """
+    global _holding, _pending
+    if threading.current_thread() is not threading.main_thread():
+        yield
+        return
+    _holding += 1
+    try:
+        yield
+    finally:
+        _holding -= 1
+        if not _holding and _pending is not None:  # the stop outranks whatever else ends the block
+            signum, _pending = _pending, None
+            raise Stopped(signum)
 
 
 def install() -> list[int]:

@@ -15,6 +15,7 @@ from collections.abc import Callable
 from dataclasses import dataclass, field
 from typing import Any
 
+from feeler._signals import held
 from feeler.catalog import Catalog, Tool
 from feeler.check.findings import Finding, FindingSet
 from feeler.check.registry import CallContext, Check, CheckSettings, Problem, select_checks
@@ -555,11 +556,12 @@ class Runner:
                 ctx.failure = exc
         except TargetError as exc:
             ctx.failure = exc
-        self._count(stats, ctx)
-        self.world.after_call(tool, case, ctx, stats)
-        failed = self._evaluate(ctx)
-        if self.on_call is not None:
-            self.on_call(tool, case, ctx, failed)
+        with held():  # a stop signal waits until the call is counted, judged and logged
+            self._count(stats, ctx)
+            self.world.after_call(tool, case, ctx, stats)
+            failed = self._evaluate(ctx)
+            if self.on_call is not None:
+                self.on_call(tool, case, ctx, failed)
         self._calls_since_alive += 1
         alive_failed: list[str] = []
         self._unpinged = case

@@ -28,6 +28,7 @@ from collections.abc import Callable
 from dataclasses import dataclass, field
 from typing import TYPE_CHECKING, Any
 
+from feeler._signals import held
 from feeler.catalog import Tool
 from feeler.check.registry import CHECKS, CallContext, Check, Problem
 from feeler.errors import RemoteProtocolError, RequestTimeout, ServerExited, TargetError
@@ -125,7 +126,8 @@ def _call(runner: Runner, tool: Tool, arguments: Any) -> CallContext:
     if isinstance(ctx.failure, ServerExited):
         runner._restart()
     if runner.on_call is not None:  # the call log (and a campaign's budget) see chain calls too
-        runner.on_call(tool, _ChainCall(arguments), ctx, [])
+        with held():
+            runner.on_call(tool, _ChainCall(arguments), ctx, [])
     return ctx
 
 
