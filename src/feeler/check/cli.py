@@ -186,7 +186,8 @@ def check(**kwargs: Any) -> int:
 def replay_command(file: str, timeout: float) -> int:
     """Send the request recorded in a replay FILE again and show the answer.
 
-    Exit code 1 when the finding shows again, 0 when it does not, 2 on errors.
+    Exit code 1 when the finding shows again, 0 when it does not, 2 on errors and when the replay cannot
+    judge (a chain whose server state differs from the recorded run).
     """
     from feeler.check.replay import load_replay, replay
     from feeler.config import load_config
@@ -200,6 +201,9 @@ def replay_command(file: str, timeout: float) -> int:
     click.echo(f"answer:   {red(str(outcome.answer))}")
     finding = data["finding"]
     click.echo(red(f"finding:  [{finding.get('check')}] {finding.get('message')}"))
+    if outcome.inconclusive is not None:
+        click.echo(red(f"cannot tell: [{finding.get('check')}] {outcome.inconclusive}"), err=True)
+        return 2
     if outcome.reproduced:
         click.echo(red(f"reproduced: [{finding.get('check')}] {outcome.messages[0]}"))
         return 1

@@ -86,10 +86,19 @@ def _from_old_replay(data: dict[str, Any]) -> dict[str, Any]:
 
 @dataclass
 class ReplayOutcome:
+    """What a replay saw.
+
+    :param reproduced: the finding's check found the same problem (same error class) again.
+    :param messages: the messages of those problems.
+    :param inconclusive: why the replay could not judge (a chain whose linked value the new answers do
+        not hold); ``reproduced`` is then false and means nothing.
+    """
+
     request: str
     answer: str | None
     reproduced: bool
     messages: list[str]
+    inconclusive: str | None = None
 
 
 class _Case:
@@ -125,10 +134,12 @@ def replay(data: dict[str, Any], *, timeout: float = 30.0, target: Target | None
                 settings = CheckSettings(secrets=redactor_for(tgt).values)
                 return CallContext("chain", chain_tool, str(session.revision), str(session.era), settings)
 
-            request, answer, problems = replay_sequence(session, data, make_ctx, catalog, timeout)
-            wanted = finding.get("signature", "").split("|")[-1]
-            same = [p for p in problems if not wanted or p.error_class == wanted]
-            return ReplayOutcome(request, answer, bool(same), [p.message for p in problems])
+            seen = replay_sequence(session, data, make_ctx, catalog, timeout)
+            if seen.lost is not None:
+                return ReplayOutcome(seen.request, seen.answer, False, [], inconclusive=seen.lost)
+            wanted = finding.get("errorClass", str(finding.get("signature", "")).split("|")[-1])
+            same = [p for p in seen.problems if not wanted or p.error_class == wanted]
+            return ReplayOutcome(seen.request, seen.answer, bool(same), [p.message for p in same])
         tool = None
         if finding.get("tool"):
             try:

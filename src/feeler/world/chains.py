@@ -18,6 +18,16 @@ Destructive tools take part only when allowed. After each step the chain checks 
 arguments and must give the same outcome (``idempotent_repeat``). A failing step fails the machine, so
 hypothesis shrinks the sequence to the shortest one that still fails; that sequence becomes the
 finding's replay (:func:`replay_sequence` runs it again, taking each linked value from the new answers).
+
+The server keeps its state from one example of the machine to the next (and from the single-call pass
+before), so a sequence may fail only because of records it did not make (an id a listing showed, a base
+argument naming an earlier record). Each step therefore knows which identifiers the chain made itself
+(in the answer of a write whose identifier inputs were all the chain's own): a failure whose identifier
+inputs are all the chain's own is *self-contained* and shrinks and replays the same way on any server
+state. The others do not stop the example (hypothesis would spend its search shrinking sequences that
+depend on where the server happened to be); they are kept, cut down to the steps the failing one takes
+its values from and confirmed on the live server (:func:`_cut`), and reported only when no
+self-contained failure shows the same problem.
 """
 
 from __future__ import annotations
@@ -33,7 +43,7 @@ from feeler.catalog import Tool
 from feeler.check.registry import CHECKS, CallContext, Check, Problem
 from feeler.errors import RemoteProtocolError, RequestTimeout, ServerExited, TargetError
 from feeler.session import Session
-from feeler.world.apply import put_at, slots
+from feeler.world.apply import get_at, put_at, slots
 from feeler.world.invariants import ChainCase, outcome
 from feeler.world.learn import answer_values, value_at
 from feeler.world.names import PATH_WORDS, identifier_like, nouns, related, words
@@ -41,7 +51,7 @@ from feeler.world.names import PATH_WORDS, identifier_like, nouns, related, word
 if TYPE_CHECKING:
     from feeler.check.runner import Runner
 
-__all__ = ["ChainFailure", "Step", "Token", "replay_sequence", "run_chains"]
+__all__ = ["ChainFailure", "SequenceReplay", "Step", "Token", "replay_sequence", "run_chains"]
 
 
 @dataclass(frozen=True)
@@ -54,6 +64,7 @@ class Token:
     place: str
     inner: str | None
     fits: frozenset[tuple[str, str]]  # (tool, instanceLocation) slots it may fill
+    own: bool = False  # the chain made this value (see the module docstring), not the server's earlier state
 
     def describe(self) -> str:
         where = self.place + (f" {self.inner}" if self.inner else "")
@@ -80,12 +91,17 @@ class Step:
 
 @dataclass
 class ChainFailure:
-    """The shortest failing sequence hypothesis found for one problem, and the context of its last step."""
+    """The shortest failing sequence hypothesis found for one problem, and the context of its last step.
+
+    :param contained: every identifier the failing step sent was made by the sequence itself, so the
+        sequence shows the problem on any server state (a fresh server included).
+    """
 
     check: str
     problem: Problem
     steps: list[Step]
     ctx: CallContext
+    contained: bool = True
 
 
 _NON_WORD = re.compile(r"\W")
@@ -162,6 +178,15 @@ class _Plan:
                     self.slots.append(_Slot(tool.name, slot.pointer, slot.name))
         self.checks = [c for c in runner.checks if "chain" in c.applies_to]
 
+    def own_inputs(self, tool: str, arguments: Any, made: set[Any]) -> bool:
+        """Every identifier-like input of *tool* in *arguments* is one the chain made (in *made*)."""
+        for slot in self.slots:
+            if slot.tool == tool:
+                present, value = get_at(arguments, slot.pointer)
+                if present and not (_hashable(value) and value in made):
+                    return False
+        return True
+
     def fits(self, found: Any) -> frozenset[tuple[str, str]]:
         out = set()
         for slot in self.slots:
@@ -198,6 +223,7 @@ def _machine(plan: _Plan, failures: dict[str, ChainFailure]) -> type:
                 return multiple()
             links[slot.pointer] = {"step": token.step, "place": token.place, "inner": token.inner}
             case = ChainCase(arguments, slot.pointer, identifier_like(slot.name), token.describe())
+        contained = plan.own_inputs(tool_name, arguments, self.made)
         ctx = _call(plan.runner, tool, arguments)
         ctx.case = case
         record = Step(tool_name, arguments, links, outcome(ctx))
@@ -211,19 +237,29 @@ def _machine(plan: _Plan, failures: dict[str, ChainFailure]) -> type:
             ctx = again if problems else ctx
         if problems:
             name, problem = problems[0]
-            key = f"{name}|{tool_name}|{problem.error_class}"
-            failures[key] = ChainFailure(name, problem, [Step(**vars(s)) for s in self.steps], ctx)
-            raise _failure_type(key)(f"[{name}] {tool_name}: {problem.message}")
+            key = f"{name}|{tool_name}|{problem.error_class}|{'own' if contained else 'world'}"
+            failure = ChainFailure(name, problem, [Step(**vars(s)) for s in self.steps], ctx, contained)
+            if key not in failures or _size(failure.steps) <= _size(failures[key].steps):
+                failures[key] = failure  # the shortest seen: a shrink on a live server may end on a longer one
+            if contained:
+                raise _failure_type(key)(f"[{name}] {tool_name}: {problem.message}")
+            # Leaning on the server's earlier state: kept (and cut down after the run, see _cut), but the
+            # example goes on, so the search for a self-contained sequence is not cut short by it.
+            return multiple()
         if tool.destructive:
             self.dead.update(v for v in _scalars(arguments))
         if record.outcome != "entered" or ctx.exchange is None:
             return multiple()
         index = len(self.steps) - 1
+        makes = contained and tool.annotations.get("readOnlyHint") is not True  # a write of the chain's own
         tokens = []
         for found in answer_values(tool_name, ctx.exchange.result, max_values=100):
+            if makes and _hashable(found.value):
+                self.made.add(found.value)
             fits = plan.fits(found)
             if fits:
-                tokens.append(Token(found.value, index, tool_name, found.place, found.inner, fits))
+                own = _hashable(found.value) and found.value in self.made
+                tokens.append(Token(found.value, index, tool_name, found.place, found.inner, fits, own))
         self.tokens.extend(tokens[:20])
         return multiple(*tokens[:20])
 
@@ -233,16 +269,24 @@ def _machine(plan: _Plan, failures: dict[str, ChainFailure]) -> type:
         RuleBasedStateMachine.__init__(self)
         self.steps = []
         self.dead = set()
+        self.made = set()  # identifiers this example of the machine made itself (see the module docstring)
         self.tokens = []  # the bundle's values, for the preconditions
 
     namespace["__init__"] = init
     for name in plan.tools:
         count = len(plan.bases[name])
+        own_slots = frozenset((name, s.pointer) for s in plan.slots if s.tool == name)
 
         def plain(self: Any, base: int, _name: str = name) -> Any:
             return step(self, _name, base, None, None)
 
-        namespace[f"call_{name}"] = rule(target=learned, base=st.integers(0, count - 1))(plain)
+        def untied(self: Any, _own: frozenset[tuple[str, str]] = own_slots) -> bool:
+            # A tool that takes an identifier is called with its base arguments only while no value of
+            # the chain fits it: the base's identifier is one of the server's earlier state, the chain's
+            # own are what read-your-writes is about.
+            return not any(_own & t.fits for t in self.tokens)
+
+        namespace[f"call_{name}"] = precondition(untied)(rule(target=learned, base=st.integers(0, count - 1))(plain))
     for slot in plan.slots:
         count = len(plan.bases[slot.tool])
         wanted = (slot.tool, slot.pointer)
@@ -257,6 +301,15 @@ def _machine(plan: _Plan, failures: dict[str, ChainFailure]) -> type:
         decorated = rule(target=learned, token=token_strategy, base=st.integers(0, count - 1))(chained)
         namespace[f"chain_{slot.tool}" + _NON_WORD.sub("_", slot.pointer)] = precondition(has)(decorated)
     return type("FeelerChains", (RuleBasedStateMachine,), namespace)
+
+
+def _hashable(value: Any) -> bool:
+    return isinstance(value, (str, int, float)) and not isinstance(value, bool)
+
+
+def _size(steps: list[Step]) -> tuple[int, int]:
+    """A sequence's size for keeping the shortest failure: steps first, then the arguments' length."""
+    return len(steps), sum(len(json.dumps(s.arguments, default=str)) for s in steps)
 
 
 def _scalars(value: Any) -> list[Any]:
@@ -296,16 +349,79 @@ def run_chains(
         inner = getattr(exc, "exceptions", None)
         if not inner or not all(isinstance(e, (_ChainFailed, Flaky)) for e in inner):
             raise
-    return list(failures.values())
+    # One failure per problem: the self-contained sequence when there is one, else the one that needs the
+    # server's earlier state, cut down to what its last step depends on.
+    chosen: dict[str, ChainFailure] = {}
+    for key, failure in sorted(failures.items(), key=lambda kv: kv[0].endswith("|world")):
+        problem = key.rsplit("|", 1)[0]
+        if problem not in chosen:
+            chosen[problem] = failure if failure.contained else _cut(plan, failure)
+    return list(chosen.values())
+
+
+def _cut(plan: _Plan, failure: ChainFailure) -> ChainFailure:
+    """*failure* with only the steps its last step takes values from (directly or through other steps),
+    if that shorter sequence shows the same problem again on the live server; else *failure* as it was."""
+    steps = failure.steps
+    keep = {len(steps) - 1}
+    for index in range(len(steps) - 1, -1, -1):
+        if index in keep:
+            keep.update(link["step"] for link in steps[index].links.values())
+    if len(keep) == len(steps):
+        return failure
+    order = sorted(keep)
+    renumber = {old: new for new, old in enumerate(order)}
+    cut = [Step(steps[i].tool, steps[i].arguments, {p: {**link, "step": renumber[link["step"]]} for p, link in
+                steps[i].links.items()}, steps[i].outcome, steps[i].repeat) for i in order]  # fmt: skip
+    runner = plan.runner
+
+    def make_ctx(tool: Tool | None) -> CallContext:
+        return CallContext("chain", tool, runner.revision, runner.era, runner.settings)
+
+    data = {"sequence": [s.to_json() for s in cut], "finding": {"check": failure.check}}
+    try:
+        seen = replay_sequence(runner.open(), data, make_ctx, _Tools(plan.tools), None)
+    except TargetError:
+        return failure
+    again = [p for p in seen.problems if p.error_class == failure.problem.error_class]
+    if seen.lost is not None or not again:
+        return failure
+    return ChainFailure(failure.check, failure.problem, cut, failure.ctx, contained=False)
+
+
+class _Tools:
+    """The ``catalog.tool(name)`` lookup :func:`replay_sequence` needs, over the chain's tools."""
+
+    def __init__(self, tools: dict[str, Tool]) -> None:
+        self._tools = tools
+
+    def tool(self, name: str) -> Tool:
+        return self._tools[name]
 
 
 # -- replay ---------------------------------------------------------------------------------------
 
 
+@dataclass
+class SequenceReplay:
+    """What :func:`replay_sequence` saw: the last request and answer, the finding's check's problems on the
+    last step, and why the sequence could not be followed (``lost``), if it could not."""
+
+    request: str
+    answer: str | None
+    problems: list[Problem]
+    lost: str | None = None
+
+
 def replay_sequence(session: Session, data: dict[str, Any], make_ctx: Callable[[Tool | None], CallContext], catalog: Any,
-                    timeout: float) -> tuple[str, str | None, list[Problem]]:  # fmt: skip
+                    timeout: float | None) -> SequenceReplay:  # fmt: skip
     """Run a recorded sequence again on *session*, taking each linked value from the new answers; run the
-    finding's check on the last step. Returns the last request, its answer and the problems found."""
+    finding's check on the last step.
+
+    A linked value that the new answer does not hold (the server's state differs from the recorded run)
+    stops the replay: the recorded value would be an identifier of the old run, and its refusal would
+    prove nothing. ``lost`` then says which step and place.
+    """
     sequence = data["sequence"]
     finding = data["finding"]
     check = CHECKS.get(finding.get("check", ""))
@@ -317,9 +433,14 @@ def replay_sequence(session: Session, data: dict[str, Any], make_ctx: Callable[[
         for pointer, link in (raw.get("links") or {}).items():
             earlier = results[link["step"]] if link["step"] < len(results) else None
             found, value = value_at(earlier, link["place"], link.get("inner"))
-            if found:
-                arguments = _put(arguments, pointer, value)
-            origin = f"{sequence[link['step']]['tool']} {link['place']} at step {link['step'] + 1}"
+            source = f"{sequence[link['step']]['tool']} {link['place']} at step {link['step'] + 1}"
+            if not found:
+                where = source + (f" {link['inner']}" if link.get("inner") else "")
+                return SequenceReplay(request, answer, [], f"step {index + 1} ({raw['tool']}) takes {pointer} from "
+                                      f"{where}, and the new answer has nothing there: the server's state differs "
+                                      "from the recorded run (start it as it was then)")  # fmt: skip
+            arguments = _put(arguments, pointer, value)
+            origin = source
         try:
             tool = catalog.tool(raw["tool"])
         except KeyError:
@@ -345,6 +466,6 @@ def replay_sequence(session: Session, data: dict[str, Any], make_ctx: Callable[[
             request = ctx.exchange.request_text if ctx.exchange is not None else json.dumps(arguments)
             frames = [f.text for f in ctx.exchange.frames if f.direction == "in"] if ctx.exchange is not None else []
             answer = frames[-1] if frames else None
-            problems = check.run(ctx) if check is not None else []
-    return request, answer, problems
+            problems = list(check.run(ctx)) if check is not None else []
+    return SequenceReplay(request, answer, problems)
 

@@ -108,8 +108,10 @@ class World:
                 path=getattr(failure.ctx.case, "path", None) or None, arguments=red.json(last.arguments),
                 revision=runner.revision, request_text=red.text(ex.request_text) if ex is not None else None,
                 answer_text=red.text(answers[-1]) if answers else None,
-                extra={"sequence": [s.to_json() for s in failure.steps]},
+                extra={"sequence": [s.to_json() for s in failure.steps], "selfContained": failure.contained},
             )  # fmt: skip
+            if not failure.contained:  # said once, in words, where the maintainer reads the finding
+                finding.message += " (the sequence uses identifiers it did not create: replay it on the same server state)"
             if runner.report.findings.add(finding):
                 runner.progress(f"  {finding.severity}: [{finding.check}] {finding.tool} {finding.message}")
             out.append(finding)
