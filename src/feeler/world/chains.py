@@ -20,11 +20,11 @@ hypothesis shrinks the sequence to the shortest one that still fails; that seque
 finding's replay (:func:`replay_sequence` runs it again, taking each linked value from the new answers).
 
 The server keeps its state from one example of the machine to the next (and from the single-call pass
-before), so a sequence may fail only because of records it did not make (an id a listing showed, a base
-argument naming an earlier record). Each step therefore knows which identifiers the chain made itself
-(in the answer of a write whose identifier inputs were all the chain's own): a failure whose identifier
-inputs are all the chain's own is *self-contained* and shrinks and replays the same way on any server
-state. The others do not stop the example (hypothesis would spend its search shrinking sequences that
+before), so a sequence may fail only because of records it did not make (an id a listing showed that
+an earlier example left behind). Each example therefore knows which values it made itself: those new
+in the answer of a write (a tool not annotated ``readOnlyHint``) that were not among the call's own
+arguments. A failure whose value from an earlier answer is one the example made is *self-contained*:
+it shrinks and replays the same way on any server state (a fresh server included). The others do not stop the example (hypothesis would spend its search shrinking sequences that
 depend on where the server happened to be); they are kept, cut down to the steps the failing one takes
 its values from and confirmed on the live server (:func:`_cut`), and reported only when no
 self-contained failure shows the same problem.
@@ -43,7 +43,7 @@ from feeler.catalog import Tool
 from feeler.check.registry import CHECKS, CallContext, Check, Problem
 from feeler.errors import RemoteProtocolError, RequestTimeout, ServerExited, TargetError
 from feeler.session import Session
-from feeler.world.apply import get_at, put_at, slots
+from feeler.world.apply import put_at, slots
 from feeler.world.invariants import ChainCase, outcome
 from feeler.world.learn import answer_values, value_at
 from feeler.world.names import PATH_WORDS, identifier_like, nouns, related, words
@@ -93,8 +93,8 @@ class Step:
 class ChainFailure:
     """The shortest failing sequence hypothesis found for one problem, and the context of its last step.
 
-    :param contained: every identifier the failing step sent was made by the sequence itself, so the
-        sequence shows the problem on any server state (a fresh server included).
+    :param contained: the value the failing step took from an earlier answer was made by the sequence
+        itself, so the sequence shows the problem on any server state (a fresh server included).
     """
 
     check: str
@@ -178,15 +178,6 @@ class _Plan:
                     self.slots.append(_Slot(tool.name, slot.pointer, slot.name))
         self.checks = [c for c in runner.checks if "chain" in c.applies_to]
 
-    def own_inputs(self, tool: str, arguments: Any, made: set[Any]) -> bool:
-        """Every identifier-like input of *tool* in *arguments* is one the chain made (in *made*)."""
-        for slot in self.slots:
-            if slot.tool == tool:
-                present, value = get_at(arguments, slot.pointer)
-                if present and not (_hashable(value) and value in made):
-                    return False
-        return True
-
     def fits(self, found: Any) -> frozenset[tuple[str, str]]:
         out = set()
         for slot in self.slots:
@@ -223,7 +214,9 @@ def _machine(plan: _Plan, failures: dict[str, ChainFailure]) -> type:
                 return multiple()
             links[slot.pointer] = {"step": token.step, "place": token.place, "inner": token.inner}
             case = ChainCase(arguments, slot.pointer, identifier_like(slot.name), token.describe())
-        contained = plan.own_inputs(tool_name, arguments, self.made)
+        # Self-contained: the value taken from an earlier answer is one this example made (see the module
+        # docstring); a base argument's own values were sent by feeler before and count as given.
+        contained = token is None or (_hashable(token.value) and token.value in self.made)
         ctx = _call(plan.runner, tool, arguments)
         ctx.case = case
         record = Step(tool_name, arguments, links, outcome(ctx))
@@ -251,11 +244,12 @@ def _machine(plan: _Plan, failures: dict[str, ChainFailure]) -> type:
         if record.outcome != "entered" or ctx.exchange is None:
             return multiple()
         index = len(self.steps) - 1
-        makes = contained and tool.annotations.get("readOnlyHint") is not True  # a write of the chain's own
+        makes = tool.annotations.get("readOnlyHint") is not True  # a write mints values; a read only shows them
+        sent = set(_scalars(arguments))
         tokens = []
         for found in answer_values(tool_name, ctx.exchange.result, max_values=100):
-            if makes and _hashable(found.value):
-                self.made.add(found.value)
+            if makes and _hashable(found.value) and found.value not in sent:
+                self.made.add(found.value)  # new in this answer: minted by this call
             fits = plan.fits(found)
             if fits:
                 own = _hashable(found.value) and found.value in self.made
