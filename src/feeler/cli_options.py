@@ -10,10 +10,10 @@ import click
 
 from feeler.errors import UsageError
 from feeler.revisions import KNOWN_REVISIONS
-from feeler.target import Target
+from feeler.target import resolve_target
 from feeler.transport.base import DEFAULT_MAX_MESSAGE_BYTES
 
-__all__ = ["SECONDS", "ConnectOptions", "Seconds", "apply_renamed", "connect_options", "renamed_option", "target_options"]
+__all__ = ["SECONDS", "ConnectOptions", "Seconds", "apply_renamed", "connect_options", "pairs", "renamed_option", "target_options"]
 
 F = TypeVar("F", bound=Callable[..., Any])
 
@@ -36,7 +36,7 @@ class Seconds(click.ParamType):
 SECONDS = Seconds()
 
 
-def _pairs(values: tuple[str, ...], sep: str, option: str) -> dict[str, str]:
+def pairs(values: tuple[str, ...], sep: str, option: str) -> dict[str, str]:
     out: dict[str, str] = {}
     for value in values:
         key, found, rest = value.partition(sep)
@@ -74,32 +74,48 @@ def apply_renamed(kwargs: dict[str, Any]) -> dict[str, Any]:
 
 
 class ConnectOptions:
-    """The target and session options a command was given."""
+    """The target and session options a command was given, read the one way every command reads them:
+    a ``[tool.feeler]`` target name (the options merged into it), a URL, ``module:attribute``, or a
+    command after ``--``; the protocol version and timeout fall back to ``[tool.feeler]``.
 
-    def __init__(self, kwargs: dict[str, Any]) -> None:
-        self.target = Target.parse(
+    :param config: the ``[tool.feeler]`` table (read from the nearest pyproject.toml when not given).
+    """
+
+    def __init__(self, kwargs: dict[str, Any], config: Any = None) -> None:
+        from feeler.config import load_config
+
+        self.config = config if config is not None else load_config()
+        self.target = resolve_target(
             kwargs.pop("target"),
+            self.config.targets(),
             sse=kwargs.pop("sse"),
-            env=_pairs(kwargs.pop("env"), "=", "--env"),
+            env=pairs(kwargs.pop("env"), "=", "--env"),
             cwd=kwargs.pop("cwd"),
-            headers=_pairs(kwargs.pop("header"), ":", "--header"),
+            headers=pairs(kwargs.pop("header"), ":", "--header"),
             bearer_env=kwargs.pop("bearer_env"),
         )
         apply_renamed(kwargs)
+        timeout = kwargs.pop("timeout")
         self.session = {
-            "revision": kwargs.pop("protocol_version"),
-            "timeout": kwargs.pop("timeout"),
+            "revision": kwargs.pop("protocol_version") or self.config.get("protocol_version"),
+            "timeout": timeout if timeout is not None else float(self.config.get("timeout", 30.0)),
             "max_message_bytes": kwargs.pop("max_message_bytes"),
         }
 
 
-def target_options(func: F) -> F:
-    """``TARGET...`` plus the options that say how to reach it."""
+def target_options(func: F | None = None, *, old_revision: bool = True) -> Any:
+    """``TARGET...`` plus the options that say how to reach it (``@target_options``, or
+    ``@target_options(old_revision=False)`` for a command whose former ``--revision`` meant another thing)."""
+    if func is None:
+        return lambda f: target_options(f, old_revision=old_revision)
     decorators = [
         click.argument("target", nargs=-1, required=True, metavar="TARGET"),
         click.option("--sse", is_flag=True, help="The URL is a legacy HTTP+SSE server (2024-11-05 transport)."),
-        click.option("--env", multiple=True, metavar="NAME=VALUE", help="Environment for a stdio server (repeatable)."),
-        click.option("--cwd", type=click.Path(file_okay=False), help="Working directory for a stdio server."),
+        click.option("--env", multiple=True, metavar="NAME=VALUE",
+                     help="Environment for a server feeler starts: a command, module:attribute or a target name "
+                          "(repeatable; added to the configured env)."),
+        click.option("--cwd", type=click.Path(file_okay=False),
+                     help="Working folder of a command (for module:attribute: the folder it is imported from)."),
         click.option("--header", multiple=True, metavar="'NAME: VALUE'", help="Extra HTTP header (repeatable; no secrets)."),
         click.option(
             "--bearer-env", metavar="VAR", help="Name of the environment variable holding a bearer token for HTTP targets."
@@ -107,10 +123,10 @@ def target_options(func: F) -> F:
     ]
     for decorator in reversed(decorators):
         func = decorator(func)
-    return connect_options(func)
+    return connect_options(func, old_revision=old_revision)
 
 
-def connect_options(func: F) -> F:
+def connect_options(func: F, *, old_revision: bool = True) -> F:
     """Session options: protocol version pin, timeout, answer size cap."""
     decorators = [
         click.option(
@@ -118,8 +134,9 @@ def connect_options(func: F) -> F:
             type=click.Choice(KNOWN_REVISIONS),
             help="Pin one protocol version instead of detecting the era and negotiating.",
         ),
-        renamed_option("--revision", "--protocol-version", "protocol_version", type=click.Choice(KNOWN_REVISIONS)),
-        click.option("--timeout", type=SECONDS, default=30.0, show_default=True, help="Seconds to wait for each answer."),
+        *([renamed_option("--revision", "--protocol-version", "protocol_version", type=click.Choice(KNOWN_REVISIONS))]
+          if old_revision else []),
+        click.option("--timeout", type=SECONDS, default=None, help="Seconds to wait for each answer [30, or timeout in [tool.feeler]]."),
         click.option(
             "--max-message-bytes",
             type=click.IntRange(min=1024),

@@ -23,7 +23,7 @@ import difflib
 import math
 import os
 from collections.abc import Mapping
-from dataclasses import dataclass, field
+from dataclasses import dataclass, field, replace
 from typing import Any
 
 from feeler._read import read_toml
@@ -94,6 +94,15 @@ class Config:
 
 def _target(name: str, spec: Any, source: str) -> Target:
     where = f"{source}: [tool.feeler.targets] {name}"
+    try:
+        return replace(_target_of(where, spec), label=name)
+    except UsageError as exc:
+        if str(exc).startswith(where):
+            raise
+        raise UsageError(f"{where}: {exc}") from None
+
+
+def _target_of(where: str, spec: Any) -> Target:
     if isinstance(spec, str):
         return Target.parse(spec)
     if not isinstance(spec, Mapping):
@@ -112,13 +121,16 @@ def _target(name: str, spec: Any, source: str) -> Target:
         import shlex
 
         value = shlex.split(value)
+    if forms[0] == "command" and not value:
+        raise UsageError(f"{where}: the command is empty")
+    options = {"env": dict(spec.get("env", {})), "cwd": spec.get("cwd"), "headers": dict(spec.get("headers", {})),
+               "bearer_env": spec.get("bearer_env")}  # fmt: skip
     if forms[0] == "command":
-        if not value:
-            raise UsageError(f"{where}: the command is empty")
-        return Target(kind="stdio", command=tuple(value), env=dict(spec.get("env", {})), cwd=spec.get("cwd"))
-    return Target.parse(
-        str(first), sse=bool(spec.get("sse", False)), headers=dict(spec.get("headers", {})), bearer_env=spec.get("bearer_env")
-    )
+        return Target(kind="stdio", command=tuple(value), **options)
+    target = Target.parse(str(first), sse=bool(spec.get("sse", False)), **options)
+    if target.kind != ("inprocess" if forms[0] == "module" else target.kind) or (forms[0] == "url" and not target.url):
+        raise UsageError(f"{where}: {forms[0]}={first!r} is not a {'module:attribute' if forms[0] == 'module' else 'URL'}")
+    return target
 
 
 def _check_target_types(where: str, spec: Mapping[str, Any]) -> None:

@@ -1,7 +1,7 @@
 """The feeler pytest plugin (registered through the ``pytest11`` entry point).
 
 When ``[tool.feeler] targets`` (pyproject.toml) or ``--feeler-target`` names servers, the plugin adds
-test items per target x tool x kind::
+test items per target x tool x kind, created at collection (so pytest counts them)::
 
     feeler::<target>::catalog                 the catalog itself (and its baseline, if one is approved)
     feeler::<target>::<tool>[go]              go cases must enter
@@ -9,9 +9,14 @@ test items per target x tool x kind::
     feeler::<target>::<tool>[probe]           malformed requests (protocol level)
     feeler::<target>::chains                  call chains (sequences linked by returned values)
 
-They work with ``-k``, ``-x``, ``-n`` (pytest-xdist: each worker opens its own session) and
-``--junitxml`` (findings are attached as properties). Hand-written tests get a connected session from
-the ``feeler_session`` fixture.
+They are collected as pytest collects files: with no paths given, with a folder that holds the config
+file, with the config file itself (``pytest pyproject.toml``), or by node id (``pytest
+feeler::harbour::catalog``; ``feeler::harbour::quote_fee`` selects every kind of that tool). ``-k`` matches
+their exact names (target, tool, kind, item name), not substrings. They work with ``-x``, ``-n``
+(pytest-xdist: each worker opens its own session) and ``--junitxml`` (every finding in full as
+properties). A "feeler" section at the end of the run counts findings per target and says where the
+replay files and reports went. Hand-written tests get a connected session from the ``feeler_session``
+fixture.
 
 This module stays cheap to import: everything heavy is imported inside hooks.
 """
@@ -103,13 +108,14 @@ def pytest_configure(config: pytest.Config) -> None:
 
     try:  # a config or target error is a usage error (one line, exit 4), never an INTERNALERROR
         cfg = load_config(start=str(config.rootpath))
-        targets: dict[str, Target] = dict(cfg.targets())
+        named = cfg.targets()
+        targets: dict[str, Target] = dict(named)
         if config.getoption(OPT_TARGET):
-            from feeler.target import Target
+            from feeler.target import resolve_target
 
             for spec in config.getoption(OPT_TARGET):
-                tgt = Target.parse(spec)
-                targets[tgt.slug()] = tgt
+                tgt = resolve_target(spec, named)  # a [tool.feeler] name is that target
+                targets[tgt.label or tgt.slug()] = tgt
     except FeelerError as exc:
         raise pytest.UsageError(f"feeler: {exc}") from None
     if targets:  # SIGTERM/SIGHUP unwind like Ctrl-C, so pytest's teardown ends the servers
@@ -117,6 +123,7 @@ def pytest_configure(config: pytest.Config) -> None:
 
         _signals.install()
     plugin = FeelerPlugin(config, cfg, targets)
+    plugin.take_arguments()
     config.stash[_plugin_key] = plugin
     config.pluginmanager.register(plugin, "feelerplugin")
 
@@ -142,6 +149,13 @@ class FeelerPlugin:
 
         # The same default locally and in CI, so a run on a laptop draws the cases CI drew.
         self.depth = config.getoption(OPT_DEPTH) or cfg.get("depth") or DEFAULT_DEPTH
+        #: node ids given on the command line (``feeler::<target>[::<item>]``); empty: no selection by id
+        self.wanted: list[str] = []
+        #: the config file was named on the command line (``pytest pyproject.toml``)
+        self.config_named = False
+        #: per target: finding signature -> (severity, replay command); filled from the item reports
+        self.seen: dict[str, dict[str, tuple[str, str]]] = {}
+        self.items_run: dict[str, int] = {}
 
     # -- runners ----------------------------------------------------------------------------------
     def options(self) -> Any:
@@ -166,11 +180,14 @@ class FeelerPlugin:
                 strict_go=config.getoption(OPT_STRICT_GO) or bool(cfg.get("strict_go", False)),
                 latency_budget={str(k): float(v) for k, v in (cfg.get("budgets") or {}).items()},
             ),
-            replay_dir=cfg.get("replay_dir", ".feeler/replays"),
+            replay_dir=self.replay_dir(),
             learn=bool(cfg.get("learn", True)),
             chain_runs=int(cfg.get("chain_runs", 20)),
             chain_steps=int(cfg.get("chain_steps", 8)),
         )
+
+    def replay_dir(self) -> str:
+        return str(self.cfg.get("replay_dir", ".feeler/replays"))
 
     def runner(self, name: str) -> Runner:
         from feeler.check.runner import Runner
@@ -184,43 +201,102 @@ class FeelerPlugin:
     def close_all(self) -> None:
         for runner in self.runners.values():
             runner.close()
-            runner._write_replays()
+            runner.write_replays()
             self._write_report(runner)
         self.runners.clear()
 
-    def _write_report(self, runner: Runner) -> None:
+    def report_folder(self, name: str) -> str | None:
+        """Where ``--feeler-report`` puts target *name*'s reports (this process's share under xdist)."""
         folder = self.config.getoption(OPT_REPORT, None)
+        if not folder:
+            return None
+        worker = getattr(self.config, "workerinput", {}).get("workerid")
+        return os.path.join(folder, self.targets[name].slug() + (f"-{worker}" if worker else ""))
+
+    def _write_report(self, runner: Runner) -> None:
+        name = next((n for n, t in self.targets.items() if t is runner.target), None)
+        folder = self.report_folder(name) if name else None
         if not folder or runner.report.catalog is None:
             return
         from feeler.report import build_report, write_reports
 
-        worker = getattr(self.config, "workerinput", {}).get("workerid")
-        name = runner.target.slug() + (f"-{worker}" if worker else "")
-        write_reports(build_report(runner.report, command="pytest"), os.path.join(folder, name))
+        write_reports(build_report(runner.report, command="pytest"), folder)
 
-    # -- collection ---------------------------------------------------------------------------------
+    # -- selection ----------------------------------------------------------------------------------
+    def take_arguments(self) -> None:
+        """Take the arguments that name feeler items out of pytest's own: node ids ``feeler::<target>...``
+        (pytest would look for a file called ``feeler``) and the config file itself."""
+        if not self.targets:
+            return
+        source = os.path.abspath(self.cfg.source) if self.cfg.source else None
+        keep = []
+        for arg in self.config.args:
+            if arg == "feeler" or arg.startswith("feeler::"):
+                if not os.path.exists(os.path.join(str(self.config.invocation_params.dir), "feeler")):
+                    self.wanted.append(arg)
+                    continue
+            elif source and os.path.abspath(os.path.join(str(self.config.invocation_params.dir), arg)) == source:
+                self.config_named = True
+                continue
+            keep.append(arg)
+        self.config.args[:] = keep
+
     def selected(self) -> bool:
-        """Whether this run asks for the generated items: no paths given (pytest's own default), or the
-        config file itself named (``pytest pyproject.toml``). ``--feeler-off`` turns them off; the
-        ``feeler_session`` fixture keeps working either way."""
-        if self.config.getoption(OPT_OFF):
+        """Whether this run asks for the generated items, as pytest decides for files: no paths given
+        (pytest's own default), a folder given that holds the config file, the config file itself, or
+        feeler node ids. ``--feeler-off`` turns them off; the ``feeler_session`` fixture works either way."""
+        if self.config.getoption(OPT_OFF) or not self.targets:
             return False
+        if self.wanted or self.config_named:
+            return True
         args = [a for a in (self.config.option.file_or_dir or []) if a]
         if not args:
             return True
         source = os.path.abspath(self.cfg.source) if self.cfg.source else None
-        return any(source and os.path.abspath(str(self.config.invocation_params.dir / a.split("::")[0])) == source
-                   for a in args)
+        here = str(self.config.invocation_params.dir)
+        for arg in self.config.args:
+            folder = os.path.abspath(os.path.join(here, arg.split("::")[0]))
+            if source and os.path.isdir(folder) and source.startswith(folder.rstrip(os.sep) + os.sep):
+                return True
+        return False
 
-    @pytest.hookimpl(tryfirst=True)
-    def pytest_collection_modifyitems(self, session: pytest.Session, config: pytest.Config, items: list[pytest.Item]) -> None:
-        if not self.selected():
-            return
-        for name in self.targets:
-            collector = TargetCollector.from_parent(
-                session, name=f"feeler::{name}", nodeid=f"feeler::{name}", plugin=self, target_name=name
-            )
-            items.extend(collector.collect())
+    def wants(self, target: str, item: str | None = None) -> bool:
+        """Whether node ids given on the command line select *target* (and *item*: ``quote_fee`` selects
+        every kind of that tool, ``quote_fee[go]`` one), as pytest matches its own node ids."""
+        if not self.wanted or self.config_named:
+            return True
+        for arg in self.wanted:
+            parts = arg.split("::")[1:]
+            if not parts:
+                return True
+            if parts[0] != target:
+                continue
+            if len(parts) == 1 or item is None:
+                return True
+            if parts[1] == item or ("[" not in parts[1] and item.split("[")[0] == parts[1]):
+                return True
+        return False
+
+    @pytest.hookimpl(wrapper=True)
+    def pytest_make_collect_report(self, collector: pytest.Collector) -> Any:
+        rep = yield
+        if isinstance(collector, pytest.Session) and rep.passed and self.selected():
+            rep.result.append(FeelerRoot.from_parent(collector, name="feeler", nodeid="feeler", plugin=self))
+        return rep
+
+    @pytest.hookimpl(wrapper=True, tryfirst=True)
+    def pytest_collection_modifyitems(self, session: pytest.Session, config: pytest.Config,
+                                      items: list[pytest.Item]) -> Any:
+        """``-k``, ``-m`` and ``--deselect`` on feeler items match exact names (target, tool, kind, item
+        name), not any substring: ``-k catalog`` selects the catalog items, not a tool named
+        ``search_catalogue``. pytest's own matching (substrings) applies to the other items."""
+        ours = [i for i in items if isinstance(i, FeelerItem)]
+        items[:] = [i for i in items if not isinstance(i, FeelerItem)]
+        try:
+            result = yield
+        finally:
+            items.extend(_select(ours, config))  # feeler's root is collected last: its items stay last
+        return result
 
     def pytest_generate_tests(self, metafunc: pytest.Metafunc) -> None:
         if "feeler_target" in metafunc.fixturenames and self.targets:
@@ -229,30 +305,149 @@ class FeelerPlugin:
     def pytest_sessionfinish(self, session: pytest.Session) -> None:
         self.close_all()
 
+    # -- the summary --------------------------------------------------------------------------------
+    def pytest_runtest_logreport(self, report: pytest.TestReport) -> None:
+        if report.when != "call" or not report.nodeid.startswith("feeler::"):
+            return
+        target = report.nodeid.split("::")[1]
+        self.items_run[target] = self.items_run.get(target, 0) + 1
+        seen = self.seen.setdefault(target, {})
+        groups: list[dict[str, str]] = []
+        for name, value in report.user_properties:
+            if name == "feeler_finding":
+                groups.append({})
+            if groups:
+                groups[-1][name] = str(value)
+        for group in groups:
+            if group.get("feeler_signature"):
+                seen.setdefault(group["feeler_signature"], (group.get("feeler_severity", "error"), group.get("feeler_replay", "")))
 
-class TargetCollector(pytest.Collector):
-    """All items of one target; connects once at collection to learn the tool list."""
+    def pytest_terminal_summary(self, terminalreporter: Any) -> None:
+        if not self.selected() or not self.items_run:
+            return
+        terminalreporter.section("feeler")
+        for name in sorted(self.targets):
+            if not self.items_run.get(name):
+                continue
+            found = self.seen.get(name, {})
+            errors = sum(1 for severity, _ in found.values() if severity == "error")
+            from feeler.check.report import totals_words
 
-    def __init__(self, *, plugin: FeelerPlugin, target_name: str, **kwargs: Any) -> None:
+            runs = self.items_run[name]
+            line = f"{name}: {totals_words(len(found), errors)} in {runs} item{'s' if runs != 1 else ''}"
+            replays = sorted({r for _, r in found.values() if r})
+            if replays:
+                line += f"; replay files in {os.path.join(self.replay_dir(), self.targets[name].slug())}{os.sep}"
+            terminalreporter.write_line(line)
+            for command in replays[:5]:
+                terminalreporter.write_line(f"  {command}")
+            if len(replays) > 5:
+                terminalreporter.write_line(f"  ... and {len(replays) - 5} more replay files")
+        folder = self.config.getoption(OPT_REPORT, None)
+        if folder:
+            names = ", ".join(f"{os.path.join(folder, self.targets[n].slug())}" for n in sorted(self.targets)
+                              if self.items_run.get(n))  # fmt: skip
+            workers = " (one folder per pytest-xdist worker: <target>-gwN; join them with `feeler report merge`)" \
+                if getattr(self.config.option, "numprocesses", None) else ""
+            terminalreporter.write_line(f"reports: {names}{workers}")
+
+
+def _tokens(item: FeelerItem) -> set[str]:
+    """The exact names ``-k`` matches on a feeler item (lower case)."""
+    names = {"feeler", item.target_name, item.name, item.kind, *(m.name for m in item.iter_markers())}
+    if item.tool_name:
+        names.add(item.tool_name)
+    if item.kind == "chain":
+        names.add("chains")
+    return {n.lower() for n in names}
+
+
+def _select(items: list[FeelerItem], config: pytest.Config) -> list[FeelerItem]:
+    """*items* after ``--deselect``, ``-k`` (exact names) and ``-m``; the rest reported as deselected."""
+    from _pytest.mark.expression import Expression
+
+    prefixes = tuple(config.getoption("deselect") or [])
+    keyword = (config.option.keyword or "").strip()
+    marks = (config.option.markexpr or "").strip()
+    try:
+        k = Expression.compile(keyword) if keyword else None
+        m = Expression.compile(marks) if marks else None
+    except SyntaxError:
+        return items  # pytest reports the bad expression itself
+    kept, dropped = [], []
+    for item in items:
+        tokens = _tokens(item)
+        ok = not (prefixes and item.nodeid.startswith(prefixes))
+        ok = ok and (k is None or k.evaluate(lambda name, **kw: not kw and name.lower() in tokens))
+        markers = {mark.name for mark in item.iter_markers()}
+        ok = ok and (m is None or m.evaluate(lambda name, **kw: not kw and name in markers))
+        (kept if ok else dropped).append(item)
+    if dropped:
+        config.hook.pytest_deselected(items=dropped)
+    return kept
+
+
+class FeelerCollectError(Exception):
+    """A node id on the command line names no feeler item."""
+
+
+class _Collector(pytest.Collector):
+    """A feeler collector: knows the plugin; a node id that names nothing is one line, not a traceback."""
+
+    def __init__(self, *, plugin: FeelerPlugin, **kwargs: Any) -> None:
         super().__init__(**kwargs)
         self.plugin = plugin
+
+    def repr_failure(self, excinfo: pytest.ExceptionInfo[BaseException]) -> str:  # type: ignore[override]
+        if isinstance(excinfo.value, FeelerCollectError):
+            return f"feeler: {excinfo.value}"
+        return str(super().repr_failure(excinfo))
+
+
+class FeelerRoot(_Collector):
+    """Every feeler item (node id ``feeler``): one collector per target below it."""
+
+    def collect(self) -> list[pytest.Collector]:
+        out: list[pytest.Collector] = []
+        for name in sorted(self.plugin.targets):
+            if self.plugin.wants(name):
+                out.append(TargetCollector.from_parent(self, name=name, plugin=self.plugin, target_name=name))
+        if self.plugin.wanted and not out:
+            raise FeelerCollectError(f"no feeler target matches {' '.join(self.plugin.wanted)} "
+                                     f"(targets: {', '.join(sorted(self.plugin.targets))})")
+        return out
+
+
+class TargetCollector(_Collector):
+    """All items of one target (node id ``feeler::<target>``); connects once at collection to learn the
+    tool list, so pytest counts the items it collected."""
+
+    def __init__(self, *, target_name: str, **kwargs: Any) -> None:
+        super().__init__(**kwargs)
         self.target_name = target_name
 
     def collect(self) -> list[pytest.Item]:
         from feeler.errors import FeelerError
 
-        items: list[pytest.Item] = [FeelerItem.from_parent(self, name="catalog", tool=None, kind="catalog")]
+        wants = self.plugin.wants
+        items: list[pytest.Item] = []
+        if wants(self.target_name, "catalog"):
+            items.append(FeelerItem.from_parent(self, name="catalog", tool=None, kind="catalog"))
         runner = self.plugin.runner(self.target_name)
         try:
             runner.open()
         except FeelerError as exc:
             self.plugin.catalog_errors[self.target_name] = str(exc)
-            return items
+            return items or [FeelerItem.from_parent(self, name="catalog", tool=None, kind="catalog")]
         for tool in runner.tools():
             for kind in _KINDS:
-                items.append(FeelerItem.from_parent(self, name=f"{tool.name}[{kind}]", tool=tool.name, kind=kind))
-        if runner.options.chain_runs > 0:
+                if wants(self.target_name, f"{tool.name}[{kind}]"):
+                    items.append(FeelerItem.from_parent(self, name=f"{tool.name}[{kind}]", tool=tool.name, kind=kind))
+        if runner.options.chain_runs > 0 and wants(self.target_name, "chains"):
             items.append(FeelerItem.from_parent(self, name="chains", tool=None, kind="chain"))
+        if not items:
+            raise FeelerCollectError(f"no item of target {self.target_name} matches {' '.join(self.plugin.wanted)} "
+                                     f"(items: catalog, chains, <tool>[go], <tool>[no-go], <tool>[probe])")
         return items
 
 
@@ -286,27 +481,30 @@ class FeelerItem(pytest.Item):
             self._catalog(runner)
             return
         if self.kind == "chain":
-            self._fail_on(runner.run_chains())
+            self._fail_on(runner, runner.run_chains())
             return
         tool = runner.report.catalog.tool(self.tool_name) if runner.report.catalog else None
         if tool is None:
             raise FeelerFailure(f"tool {self.tool_name!r} is no longer advertised")
-        reason = runner.skip_reason(tool)
-        if reason and self.kind != "catalog":
+        reason = runner.skip_reason(tool, option=OPT_DESTRUCTIVE)
+        if reason:
             pytest.skip(f"{self.tool_name}: {reason}")
         runner.run_tool(tool, kinds=(self.kind,))
         mine = [
             f for f in runner.report.findings
             if self.tool_name in f.tools and _kind_of(f.kind) == self.kind
         ]  # fmt: skip
-        self._fail_on(mine)
+        self._fail_on(runner, mine)
 
-    def _fail_on(self, mine: list[Any]) -> None:
+    def _fail_on(self, runner: Runner, mine: list[Any], more: list[str] | None = None) -> None:
+        """Write the replay files of *mine* now (so the failure and JUnit name them), attach every finding
+        as JUnit properties, and fail on the errors (and on *more* problems)."""
+        runner.write_replays(mine)
         for finding in mine:
-            self.user_properties.append(("feeler_finding", f"{finding.check}: {finding.message}"))
-        errors = [f for f in mine if f.severity == "error"]
-        if errors:
-            raise FeelerFailure("\n".join(_lines(errors)))
+            self.user_properties.extend(_properties(finding))
+        problems = _lines([f for f in mine if f.severity == "error"]) + list(more or [])
+        if problems:
+            raise FeelerFailure("\n".join(problems))
 
     def _catalog(self, runner: Runner) -> None:
         from feeler.check.registry import CallContext
@@ -317,11 +515,8 @@ class FeelerItem(pytest.Item):
             runner.audit_catalog()  # the catalog-wide checks (names unique, size, near-duplicates)
         for tool in runner.tools():
             runner._evaluate(CallContext("catalog", tool, runner.revision, runner.era, runner.settings))
-        new = [f for f in runner.report.findings if f.signature not in findings_before and f.severity == "error"]
-        problems = _lines(new)
-        problems += _baseline_problems(self.plugin, self.target_name, runner)
-        if problems:
-            raise FeelerFailure("\n".join(problems))
+        new = [f for f in runner.report.findings if f.signature not in findings_before]
+        self._fail_on(runner, new, _baseline_problems(self.plugin, self.target_name, runner))
         missing = _missing_baseline(self.plugin, runner)
         if missing:
             pytest.skip(missing)
@@ -340,6 +535,32 @@ def _kind_of(kind: str) -> str:
     return "go" if kind == "tool" else kind
 
 
+def _properties(finding: Any) -> list[tuple[str, str]]:
+    """One finding as JUnit properties, in full (no text is cut): ``feeler_finding`` opens each group."""
+    import json
+
+    props = [
+        ("feeler_finding", f"{finding.check}: {finding.message}"),
+        ("feeler_check", finding.check),
+        ("feeler_severity", finding.severity),
+        ("feeler_kind", finding.kind),
+        ("feeler_tools", ", ".join(finding.tools)),
+        ("feeler_keywordLocation", finding.keyword_location or ""),
+        ("feeler_instanceLocation", finding.instance_location if finding.instance_location is not None else ""),
+        ("feeler_arguments", json.dumps(finding.arguments, ensure_ascii=False) if finding.arguments is not None else ""),
+        ("feeler_message", finding.message),
+        ("feeler_replay", _replay_command(finding.replay) if finding.replay else ""),
+        ("feeler_signature", finding.signature),
+    ]
+    return props
+
+
+def _replay_command(path: str) -> str:
+    import shlex
+
+    return f"feeler replay {shlex.quote(path)}"
+
+
 def _lines(findings: list[Any]) -> list[str]:
     import json
 
@@ -347,26 +568,24 @@ def _lines(findings: list[Any]) -> list[str]:
     for f in findings:
         out.append(f"[{f.check}] {f.message}")
         if f.arguments is not None:
-            out.append(f"    arguments: {json.dumps(f.arguments, ensure_ascii=False)[:300]}")
+            out.append(f"    arguments: {json.dumps(f.arguments, ensure_ascii=False)}")
         if f.replay:
-            out.append(f"    replay: feeler replay {f.replay}")
+            out.append(f"    replay: {_replay_command(f.replay)}")
     return out
 
 
 def _missing_baseline(plugin: FeelerPlugin, runner: Runner) -> str | None:
     """The skip reason when no baseline is approved yet: it names the command that creates it."""
-    import shlex
-
+    from feeler.baseline.pytest_support import approve_command
     from feeler.baseline.store import BaselineStore
 
     if plugin.config.getoption(OPT_APPROVE):
         return None
-    folder = plugin.cfg.get("baselines", "baselines")
-    if BaselineStore(folder, runner.target.spec).exists():
+    folder = str(plugin.cfg.get("baselines", "baselines"))
+    if BaselineStore.for_target(folder, runner.target).exists():
         return None
     return (f"no approved baseline for {runner.target.name} in {folder}/; create it with: "
-            f"feeler approve --baselines {shlex.quote(folder)} --yes {shlex.quote(runner.target.spec)}"
-            f"  (or: pytest --feeler-approve)")
+            f"{approve_command(runner.target, folder, plugin.cfg.values)}  (or: pytest --feeler-approve)")
 
 
 def _baseline_problems(plugin: FeelerPlugin, name: str, runner: Runner) -> list[str]:
@@ -382,7 +601,7 @@ def _baseline_problems(plugin: FeelerPlugin, name: str, runner: Runner) -> list[
         return ["--feeler-approve writes baselines from one process only and this is a pytest-xdist worker: "
                 "nothing was written; run `pytest --feeler-approve -p no:xdist` (or with -n 0)"]
     return check_catalog_against_baseline(
-        runner.target, catalog, folder=plugin.cfg.get("baselines", "baselines"),
+        runner.target, catalog, folder=str(plugin.cfg.get("baselines", "baselines")),
         approve=bool(plugin.config.getoption(OPT_APPROVE)),
         is_worker=hasattr(plugin.config, "workerinput"),
         session=runner.open(), config=plugin.cfg.values,

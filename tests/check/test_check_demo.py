@@ -137,8 +137,10 @@ def test_replay_reproduces(demo_run: tuple[int, dict[str, Any], Path], wanted: t
     assert f"[{wanted[0]}]" in out
 
 
-def test_replay_of_a_fixed_finding_is_not_reproduced(demo_run: tuple[int, dict[str, Any], Path], tmp_path: Path) -> None:
-    # The same request sent to the clean reference server (which has no such tool) does not show the finding.
+def test_replay_where_the_base_is_gone_cannot_tell(demo_run: tuple[int, dict[str, Any], Path], tmp_path: Path) -> None:
+    # The no-go case's base (the same arguments with the pattern intact) cannot enter on the clean reference
+    # server, which has no such tool: a refusal there says nothing about the pattern (DEVELOPERS.md, "The
+    # world layer": a verdict is stopped only on an entered base), so the replay cannot tell: exit 2.
     import json
 
     _, report, _ = demo_run
@@ -147,8 +149,12 @@ def test_replay_of_a_fixed_finding_is_not_reproduced(demo_run: tuple[int, dict[s
     data["target"] = {"kind": "stdio", "command": [PY, str(SERVERS / "clean_reference.py")]}
     moved = tmp_path / "moved.json"
     moved.write_text(json.dumps(data), encoding="utf-8")
-    code, out, _ = run_cli(["replay", str(moved)])
-    assert code == 0 and "not reproduced" in out
+    base, broken = data["base"]["arguments"], data["finding"]["arguments"]  # they differ only at /booking_ref
+    assert base["booking_ref"] != broken["booking_ref"] and {k: v for k, v in base.items() if k != "booking_ref"} == {
+        k: v for k, v in broken.items() if k != "booking_ref"}
+    code, out, err = run_cli(["replay", str(moved)])
+    assert code == 2 and "not reproduced" not in out, out + err
+    assert "cannot tell: [nogo_stops] the base call" in err and "world differs" in err
 
 
 # -- the clean reference server (official SDK) --------------------------------------------------------------

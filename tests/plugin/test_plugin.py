@@ -116,9 +116,10 @@ def test_catalog_item_fails_on_drift_and_approve_writes(pytester: pytest.Pyteste
     # When this suite itself runs under pytest-xdist, the child run must not look like a worker.
     monkeypatch.delenv("PYTEST_XDIST_WORKER", raising=False)
 
-    # The approved baseline of the current demo, placed where the *next release* target looks for its own.
+    # The approved baseline of the current demo, placed where the *next release* target looks for its own:
+    # baselines/<target name> (the [tool.feeler] name; a slug only for targets given on the command line).
     approved = (ROOT / "baselines" / target_slug("feeler.demo.server:server") / "catalog.json").read_text(encoding="utf-8")
-    folder = pytester.path / "baselines" / target_slug("feeler.demo.server:next_server")
+    folder = pytester.path / "baselines" / "demo"
     folder.mkdir(parents=True)
     (folder / "catalog.json").write_text(approved, encoding="utf-8")
     _project(pytester, "feeler.demo.server:next_server")
@@ -140,7 +141,7 @@ def test_catalog_item_compares_recorded_outputs(pytester: pytest.Pytester, monke
 
     monkeypatch.delenv("PYTEST_XDIST_WORKER", raising=False)
     source = ROOT / "baselines" / target_slug("feeler.demo.server:server")
-    folder = pytester.path / "baselines" / target_slug("feeler.demo.server:server")
+    folder = pytester.path / "baselines" / "demo"  # the [tool.feeler] target name
     folder.mkdir(parents=True)
     (folder / "catalog.json").write_text((source / "catalog.json").read_text(encoding="utf-8"), encoding="utf-8")
     outputs = json.loads((source / "outputs.json").read_text(encoding="utf-8"))

@@ -6,11 +6,11 @@ On a terminal it asks first; in scripts pass ``--yes``. Without either it refuse
 from __future__ import annotations
 
 import sys
+from typing import Any
 
 import click
 
-from feeler.cli_options import SECONDS
-from feeler.cli_options import apply_renamed, renamed_option
+from feeler.cli_options import ConnectOptions, apply_renamed, renamed_option, target_options
 from feeler.errors import FeelerError
 
 __all__ = ["approve"]
@@ -25,10 +25,11 @@ def _is_terminal() -> bool:
 
 
 @click.command("approve")
-@click.argument("target")
-@click.option("--baselines", "root", type=click.Path(file_okay=False), default="baselines", show_default=True,
-              help="Folder holding one baseline folder per target.")
-@click.option("--name", default=None, help="Target name for the baseline folder (default: TARGET itself).")
+@target_options(old_revision=False)  # approve's former --revision is --source-ref
+@click.option("--baselines", "root", type=click.Path(file_okay=False), default=None,
+              help="Folder holding one baseline folder per target [baselines, or baselines in [tool.feeler]].")
+@click.option("--name", default=None,
+              help="Name of the baseline folder (default: the target name, or a slug of the target).")
 @click.option("--outputs", "outputs_file", type=click.Path(exists=True, dir_okay=False), default=None,
               help="JSON list of recorded outputs [{tool, arguments, result}] to store beside the catalog.")
 @click.option("--record-outputs", is_flag=True,
@@ -41,42 +42,48 @@ def _is_terminal() -> bool:
               help="Code revision of the server to record in the header as sourceRef (e.g. a git commit).")
 @renamed_option("--revision", "--source-ref", "source_ref")
 @click.option("--yes", "-y", is_flag=True, help="Write without asking (for scripts and CI).")
-@click.option("--timeout", type=SECONDS, default=30.0, show_default=True, help="Seconds for a live capture.")
-def approve(target: str, root: str, name: str | None, outputs_file: str | None, record_outputs: bool,
+def approve(root: str | None, name: str | None, outputs_file: str | None, record_outputs: bool,
             record_tools: tuple[str, ...], per_tool: int | None, source_ref: str | None, yes: bool,
-            timeout: float) -> None:
+            **kwargs: Any) -> None:
     """Record TARGET's catalog as the approved baseline, after showing what changed.
 
-    TARGET is a catalog file or a live target (URL, module:attribute, or a quoted command line).
+    TARGET is a [tool.feeler] target name, a URL, module:attribute, a command after `--`, or a stored
+    catalog (a catalog file or a baseline folder). The baseline folder is named after the target name
+    (a slug of the target for one given on the command line).
     """
     from feeler.baseline.approve import approve as run_approve
     from feeler.baseline.store import BaselineStore
-    from feeler.diff.cli import load_side
+    from feeler.config import load_config
+    from feeler.diff.cli import is_catalog_path, load_side
+    from feeler.diff.outputs import OutputMasks
 
     source_ref = source_ref or apply_renamed({"source_ref": None})["source_ref"]
     if not yes and not _is_terminal():
         raise click.UsageError("stdin is not a terminal, so feeler cannot ask before writing the baseline; "
                                "pass --yes to write it")
-    from feeler.config import load_config
-    from feeler.diff.outputs import OutputMasks
-
     if record_outputs and outputs_file:
         raise click.UsageError("give either --outputs FILE or --record-outputs, not both")
     try:
         config = load_config()
+        root = root or str(config.get("baselines", "baselines"))
         masks = OutputMasks.from_config(config.values)
+        words = kwargs["target"]
         outputs = None
-        if record_outputs:
-            catalog, label, outputs = _record(target, timeout, list(record_tools) or list(config.get("record_tools", [])),
-                                              per_tool or int(config.get("record_per_tool", 3)))
+        if len(words) == 1 and words[0] not in config.targets() and is_catalog_path(words[0]):
+            if record_outputs:
+                raise click.UsageError(f"{words[0]} is a stored catalog; --record-outputs needs a live target")
+            catalog, label = load_side(words[0], config=config)
+            store = BaselineStore(root, name or label)
         else:
-            catalog, label = load_side(target, timeout=timeout)
+            opts = ConnectOptions(kwargs, config)
+            catalog, outputs = _capture(opts, record_outputs, list(record_tools) or list(config.get("record_tools", [])),
+                                        per_tool or int(config.get("record_per_tool", 3)))
+            store = BaselineStore(root, name) if name else BaselineStore.for_target(root, opts.target)
         if outputs_file:
             from feeler._read import read_json
 
             outputs = read_json(outputs_file, what="the outputs file", expect=list,
                                 fix="give a JSON list of {tool, arguments, result} objects")
-        store = BaselineStore(root, name or label)
         result = run_approve(store, catalog, outputs, source_ref=source_ref, echo=click.echo, masks=masks,
                              confirm=(lambda _q: True) if yes else (lambda q: click.confirm(q, default=False)))
     except FeelerError as exc:
@@ -85,21 +92,17 @@ def approve(target: str, root: str, name: str | None, outputs_file: str | None, 
         raise SystemExit(1)
 
 
-def _record(target: str, timeout: float, tools: list[str], per_tool: int) -> tuple[object, str, list[dict]]:
-    """Capture the catalog and record pinned outputs in one session."""
-    from pathlib import Path as _Path
-
+def _capture(opts: Any, record: bool, tools: list[str], per_tool: int) -> tuple[Any, list[dict[str, Any]] | None]:
+    """Capture the catalog and, with *record*, record pinned outputs in the same session."""
     from feeler.baseline.record import record_outputs
     from feeler.connect import capture, connected
+    from feeler.redact import redactor_for
 
-    if _Path(target).exists():
-        raise click.UsageError(f"{target} is a file or folder; --record-outputs needs a live target")
-    with connected(target, timeout=timeout) as session:
+    with connected(opts.target, **opts.session) as session:
         catalog = capture(session)
-        from feeler.config import load_config
-        from feeler.redact import redactor_for
-
+        if not record:
+            return catalog, None
         outputs = record_outputs(session, catalog, tools=tools, per_tool=per_tool,
-                                 redactor=redactor_for(None, load_config().values))
+                                 redactor=redactor_for(opts.target, opts.config.values))
     click.echo(f"feeler approve: recorded {len(outputs)} output(s) of {len({r['tool'] for r in outputs})} tool(s)")
-    return catalog, target, outputs
+    return catalog, outputs

@@ -13,7 +13,19 @@ from typing import Any
 from feeler.baseline.store import BaselineStore, is_writer
 from feeler.catalog import Catalog
 
-__all__ = ["check_catalog_against_baseline"]
+__all__ = ["approve_command", "check_catalog_against_baseline"]
+
+
+def approve_command(target: Any, folder: str, config: dict[str, Any] | None = None) -> str:
+    """The ``feeler approve`` command that writes *target*'s baseline into *folder*, as it runs when pasted
+    in the project folder: the target name for a ``[tool.feeler]`` target (its env and bearer variable
+    come with it), else the target's options and spec, shell-quoted, secrets left as ``$NAME``."""
+    import shlex
+
+    from feeler.redact import redactor_for
+
+    words = target.words(redactor_for(target, config or {}).text)
+    return shlex.join(["feeler", "approve", "--baselines", folder, "--yes", *words])
 
 
 def check_catalog_against_baseline(
@@ -36,7 +48,7 @@ def check_catalog_against_baseline(
     from feeler.redact import redactor_for
 
     cfg = config or {}
-    store = BaselineStore(folder, target.spec)
+    store = BaselineStore.for_target(folder, target)
     if approve:
         if is_worker or not is_writer():
             return []  # the controller process writes; workers only compare
@@ -64,7 +76,7 @@ def check_catalog_against_baseline(
         problems += [
             f"the catalog differs from the approved baseline {store.catalog_path} "
             f"({len(report.changes)} changes, {len(breaking)} breaking; if intended, approve it with "
-            f"`feeler approve {target.spec}` or pytest --feeler-approve)",
+            f"`{approve_command(target, folder, cfg)}` or pytest --feeler-approve)",
             render(report, "text"),
         ]
     if session is not None and os.path.lexists(store.outputs_path):

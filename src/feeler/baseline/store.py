@@ -171,6 +171,14 @@ class BaselineStore:
         self.folder = self.root / target_slug(target)
 
     @classmethod
+    def for_target(cls, root: str | os.PathLike[str], target: Any) -> BaselineStore:
+        """The store of a :class:`~feeler.target.Target`: ``root / <target name>`` for a ``[tool.feeler]``
+        target, ``root / <slug of the spec>`` for one given on the command line."""
+        store = cls(root, "x")
+        store.folder = store.root / target.slug()
+        return store
+
+    @classmethod
     def from_folder(cls, folder: str | os.PathLike[str]) -> BaselineStore:
         """A store for an existing folder, e.g. one given to ``feeler diff``."""
         path = Path(folder)

@@ -281,7 +281,7 @@ class Campaign:
         try:
             self.runner.close()
         finally:
-            self.runner._write_replays()
+            self.runner.write_replays()
             self.save(done=done)
             self.log.close()
 

@@ -65,7 +65,7 @@ def audit(**kwargs: Any) -> int:
     skip = list(kwargs.pop("skip_checks"))
     cli_thresholds = {k: kwargs.pop(k) for k in ("max_tools", "max_catalog_tokens")}
     hosts = kwargs.pop("allowed_hosts")
-    opts = ConnectOptions(kwargs)
+    opts = ConnectOptions(kwargs, config)
     catalog_checks = [name for name, c in CHECKS.items() if "catalog" in c.applies_to]
     for name in only or []:
         if name in CHECKS and name not in catalog_checks:

@@ -96,29 +96,17 @@ def check(**kwargs: Any) -> int:
     from feeler.check.registry import CheckSettings
     from feeler.check.report import report_json, report_text
     from feeler.check.runner import RunOptions, Runner
-    from feeler.config import load_config
+    from feeler.depth import samples_for
     from feeler.redact import redactor_for
 
-    from feeler.depth import samples_for
-
-    config = load_config()
     apply_renamed(kwargs)
     fmt = kwargs.pop("fmt")
     verbose = kwargs.pop("verbose")
     every = kwargs.pop("every_revision")
     report_dir, report_formats = kwargs.pop("report_dir"), kwargs.pop("report_formats")
     call_log = kwargs.pop("call_log")
-    names = kwargs["target"]
-    configured = config.targets()
-    if len(names) == 1 and names[0] in configured:
-        conn_target = configured[names[0]]
-        kwargs["target"] = ("placeholder",)
-        opts = ConnectOptions(kwargs)
-        opts.target = conn_target
-    else:
-        opts = ConnectOptions(kwargs)
-    if opts.session["revision"] is None and config.get("protocol_version"):
-        opts.session["revision"] = config.get("protocol_version")
+    opts = ConnectOptions(kwargs)
+    config = opts.config
     from feeler.world.known import known_pool
 
     samples = kwargs["samples"] if kwargs["samples"] is not None else config.get("samples")
@@ -182,32 +170,43 @@ def check(**kwargs: Any) -> int:
 
 @click.command("replay")
 @click.argument("file", type=click.Path(dir_okay=False))
+@click.option("--env", multiple=True, metavar="NAME=VALUE",
+              help="Environment for the server (repeatable): the replay file keeps only the names, never values.")
 @click.option("--timeout", type=SECONDS, default=30.0, show_default=True)
-def replay_command(file: str, timeout: float) -> int:
+def replay_command(file: str, env: tuple[str, ...], timeout: float) -> int:
     """Send the request recorded in a replay FILE again and show the answer.
 
-    Exit code 1 when the finding shows again, 0 when it does not, 2 on errors and when the replay cannot
-    judge (a chain whose server state differs from the recorded run).
+    The target is the [tool.feeler] target the file names (its configured env included), or the one
+    recorded in the file. Exit code 1 when the finding shows again, 0 when it does not, 2 on errors and
+    when the replay cannot judge (the server's world differs from the recorded run: a chain's linked
+    value, or the base a no-go or bound case was built on, is gone).
     """
-    from feeler.check.replay import load_replay, replay
+    from feeler.check.replay import load_replay, replay, replay_target
+    from feeler.cli_options import pairs
     from feeler.config import load_config
     from feeler.redact import redactor_for
-    from feeler.target import Target
 
     data = load_replay(file)
-    outcome = replay(data, timeout=timeout)
-    red = redactor_for(Target.from_json(data["target"]), load_config().values).text  # the new answer may leak too
+    config = load_config()
+    target, notes = replay_target(data, config, pairs(env, "=", "--env"))
+    outcome = replay(data, timeout=timeout, target=target)
+    red = redactor_for(target, config.values).text  # the new answer may leak too
+    for line in notes + outcome.notes:
+        click.echo(red(f"note:     {line}"), err=True)
+    if outcome.base_request is not None:
+        click.echo(f"base:     {red(outcome.base_request)}")
     click.echo(f"sent:     {red(outcome.request)}")
     click.echo(f"answer:   {red(str(outcome.answer))}")
     finding = data["finding"]
-    click.echo(red(f"finding:  [{finding.get('check')}] {finding.get('message')}"))
+    check = outcome.check
+    click.echo(red(f"finding:  [{check}] {finding.get('message')}"))
     if outcome.inconclusive is not None:
-        click.echo(red(f"cannot tell: [{finding.get('check')}] {outcome.inconclusive}"), err=True)
+        click.echo(red(f"cannot tell: [{check}] {outcome.inconclusive}"), err=True)
         return 2
     if outcome.reproduced:
-        click.echo(red(f"reproduced: [{finding.get('check')}] {outcome.messages[0]}"))
+        click.echo(red(f"reproduced: [{check}] {outcome.messages[0]}"))
         return 1
-    click.echo(red(f"not reproduced: [{finding.get('check')}] the answer no longer shows this problem"))
+    click.echo(red(f"not reproduced: [{check}] the answer no longer shows this problem"))
     return 0
 
 

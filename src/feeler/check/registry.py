@@ -94,6 +94,8 @@ class CallContext:
     #: the whole catalog, for catalog-wide checks (``kind == "catalog"`` and ``tool is None``)
     catalog: Any = None
     base: str | None = None
+    #: the base's arguments (what entered), kept in the replay file of an anchored finding
+    base_arguments: Any = None
 
     @property
     def keyword(self) -> str | None:

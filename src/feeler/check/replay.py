@@ -3,15 +3,19 @@
 A replay file is JSON (format ``feeler-replay/2``): ``format``, ``target`` (how to reach the server: never
 a secret: env and header *names* only), ``protocolVersion``, ``request`` (the exact text sent), ``answer``
 (what came back then) and ``finding`` (its ``--format json`` form). It lives at
-``<replay dir>/<target>/<tool or _server>/<id>.replay.json``. ``feeler replay FILE`` re-sends the request
-and runs the finding's check on the new answer. Files of format ``feeler-replay/1`` are still read.
+``<replay dir>/<target>/<tool or _server>/<id>.replay.json`` (``<target>`` is the ``[tool.feeler]`` target
+name, recorded as ``target.name``, or a slug of the spec). ``feeler replay FILE`` re-sends the request and
+runs the finding's check (by its current name) on the new answer. A case whose verdict depends on the
+server's world keeps its ``base`` (the arguments that entered: the no-go case's arguments with the
+keyword intact, or a bound case's value one step inside the bound); the replay sends the base first and
+cannot tell (exit 2) when it no longer enters. Files of format ``feeler-replay/1`` are still read.
 """
 
 from __future__ import annotations
 
 import json
 import os
-from dataclasses import dataclass
+from dataclasses import dataclass, field
 from datetime import datetime, timezone
 from typing import Any
 
@@ -22,11 +26,13 @@ from feeler.check.findings import Finding
 from feeler.errors import TargetError, UsageError
 from feeler.target import Target, target_slug
 
-__all__ = ["REPLAY_FORMAT", "ReplayOutcome", "load_replay", "replay", "write_replay"]
+__all__ = ["REPLAY_FORMAT", "ReplayOutcome", "load_replay", "replay", "replay_target", "write_replay"]
 
 REPLAY_FORMAT = "feeler-replay/2"
 #: Older formats still read (``revision`` instead of ``protocolVersion``; snake_case finding keys).
 OLD_REPLAY_FORMATS = ("feeler-replay/1",)
+#: Checks whose verdict rests on a base that entered (world.anchor): their replay sends the base first.
+ANCHORED_CHECKS = frozenset({"nogo_stops", "bounds_honoured"})
 #: The folder of findings that concern no tool (server-wide probes, the catalog).
 SERVER_FOLDER = "_server"
 
@@ -46,6 +52,8 @@ def write_replay(folder: str, target: Target, finding: Finding, settings: Any = 
         data["settings"] = {"strictGo": bool(settings.strict_go), "latencyBudget": dict(settings.latency_budget)}
     if finding.extra.get("sequence"):
         data["sequence"] = finding.extra["sequence"]  # a chain: every call, linked by earlier answers
+    if "base" in finding.extra:
+        data["base"] = {"arguments": finding.extra["base"]}  # sent first on replay: does the world still hold?
     tool_folder = target_slug(finding.tool) if finding.tool else SERVER_FOLDER
     path = os.path.join(folder, target.slug(), tool_folder, f"{finding.short_id}.replay.json")
     write_text_atomic(path, json.dumps(data, indent=2, ensure_ascii=False, sort_keys=True) + "\n")
@@ -91,7 +99,10 @@ class ReplayOutcome:
     :param reproduced: the finding's check found the same problem (same error class) again.
     :param messages: the messages of those problems.
     :param inconclusive: why the replay could not judge (a chain whose linked value the new answers do
-        not hold); ``reproduced`` is then false and means nothing.
+        not hold, a base that no longer enters); ``reproduced`` is then false and means nothing.
+    :param check: the check that judged (the current name of the one the file names).
+    :param notes: what the user should know about how it was judged (a renamed check, a missing env).
+    :param base_request: the base call sent first, if any.
     """
 
     request: str
@@ -99,6 +110,23 @@ class ReplayOutcome:
     reproduced: bool
     messages: list[str]
     inconclusive: str | None = None
+    check: str = ""
+    notes: list[str] = field(default_factory=list)
+    base_request: str | None = None
+
+
+def replay_target(data: dict[str, Any], config: Any = None, env: dict[str, str] | None = None) -> tuple[Target, list[str]]:
+    """The target a replay file names: the ``[tool.feeler]`` target of that name (with its configured env),
+    else the one recorded; *env* (``--env``) merged in. Also notes for env names no value is known for."""
+    recorded = data["target"]
+    named = config.targets() if config is not None else {}
+    if recorded.get("name") in named:
+        target = named[recorded["name"]].merged(env=env)
+    else:
+        target = Target.from_json(recorded).merged(env=env)
+    missing = [n for n in recorded.get("envNames", []) if n not in target.env]
+    notes = [f"the server ran with {name} set, and it is not set now: give it with --env {name}=VALUE" for name in missing]
+    return target, notes
 
 
 class _Case:
@@ -116,14 +144,23 @@ class _Case:
 
 
 def replay(data: dict[str, Any], *, timeout: float = 30.0, target: Target | None = None) -> ReplayOutcome:
-    """Send the recorded request again; say whether the same check finds the same problem."""
-    from feeler.check.registry import CHECKS, CallContext, CheckSettings
-    from feeler.redact import redactor_for
+    """Send the recorded request again; say whether the same check finds the same problem.
+
+    The check is the one the file names, by its current name (a former name is judged by the check it
+    became, with a note). A recorded base is sent first and must enter again; a ``bounds_honoured``
+    finding's base is the value one step inside the bound (recomputed for files that do not hold it).
+    """
+    from feeler.check.registry import CHECKS, CallContext, CheckSettings, current_name
     from feeler.connect import capture, open_session
+    from feeler.redact import redactor_for
 
     tgt = target or Target.from_json(data["target"])
     finding = data["finding"]
-    check = CHECKS.get(finding.get("check", ""))
+    stored_name = str(finding.get("check", ""))
+    name = current_name(stored_name)
+    notes = [f"the file names the former check {stored_name!r}; judged by {name!r}"] if name != stored_name else []
+    check = CHECKS.get(name)
+    wanted = finding.get("errorClass", str(finding.get("signature", "")).split("|")[-1])
     session = open_session(tgt, revision=data.get("protocolVersion"), timeout=timeout)
     try:
         catalog = capture(session)
@@ -136,10 +173,9 @@ def replay(data: dict[str, Any], *, timeout: float = 30.0, target: Target | None
 
             seen = replay_sequence(session, data, make_ctx, catalog, timeout)
             if seen.lost is not None:
-                return ReplayOutcome(seen.request, seen.answer, False, [], inconclusive=seen.lost)
-            wanted = finding.get("errorClass", str(finding.get("signature", "")).split("|")[-1])
+                return ReplayOutcome(seen.request, seen.answer, False, [], seen.lost, name, notes)
             same = [p for p in seen.problems if not wanted or p.error_class == wanted]
-            return ReplayOutcome(seen.request, seen.answer, bool(same), [p.message for p in same])
+            return ReplayOutcome(seen.request, seen.answer, bool(same), [p.message for p in same], None, name, notes)
         tool = None
         if finding.get("tool"):
             try:
@@ -155,7 +191,7 @@ def replay(data: dict[str, Any], *, timeout: float = 30.0, target: Target | None
             meta = session.meta() if session.era == "stateless" else None
             probes = {p.name: p for p in protocol_probes(str(session.revision), finding.get("tool") or "tool", meta)}
             case = probes.get(probe_name, case)
-        ctx_kind = "alive" if finding.get("check") == "server_alive" else kind
+        ctx_kind = "alive" if name == "server_alive" else kind
         stored = data.get("settings") or {}
         settings = CheckSettings(
             strict_go=bool(stored.get("strictGo", False)),
@@ -163,8 +199,21 @@ def replay(data: dict[str, Any], *, timeout: float = 30.0, target: Target | None
             secrets=redactor_for(tgt).values,
         )
         ctx = CallContext(ctx_kind, tool, str(session.revision), str(session.era), settings, case=case)
-        if finding.get("check") == "bounds_honoured":
-            ctx.base = "entered"  # the base (just inside the bound) entered when the finding was made
+        base_arguments = _base_arguments(data, name, kind, tool, case)
+        base_request = None
+        if base_arguments is not None and tool is not None:
+            base_outcome, base_request, refusal = _send_base(session, tool.name, base_arguments, timeout)
+            ctx.base = base_outcome
+            if base_outcome != "entered":
+                why = (f"the base call (these arguments with {case.keyword!r} intact"
+                       if name != "bounds_honoured" else "the base call (the value one step inside the bound")
+                return ReplayOutcome(
+                    data["request"], None, False, [],
+                    f"{why}) was {base_outcome or 'not answered'} now{': ' + refusal if refusal else ''}; the "
+                    "server's world differs from the recorded run (a value it needs, such as a record made "
+                    "earlier, is gone): start the server as it was then, or run feeler check again",
+                    name, notes, base_request,
+                )  # fmt: skip
         answer = None
         try:
             expect = getattr(case, "expects_answer", True)
@@ -177,9 +226,46 @@ def replay(data: dict[str, Any], *, timeout: float = 30.0, target: Target | None
         except TargetError as exc:
             ctx.failure = exc
         problems = check.run(ctx) if check is not None else []
-        wanted = finding.get("errorClass", str(finding.get("signature", "")).split("|")[-1])
         same = [p for p in problems if not wanted or p.error_class == wanted]
+        inconclusive = None
+        if not same and name == "nogo_stops" and base_arguments is None:
+            from feeler.world.anchor import outcome
+
+            if outcome(ctx.exchange, ctx.failure) == "stopped":
+                inconclusive = ("the no-go case was stopped, but the file holds no base that entered, so the "
+                                "refusal may have another cause (unattributed): run feeler check again")
         # The stored finding's own problem first: the answer may show other problems too.
-        return ReplayOutcome(data["request"], answer, bool(same), [p.message for p in same])
+        return ReplayOutcome(data["request"], answer, bool(same), [p.message for p in same], inconclusive, name, notes,
+                             base_request)
     finally:
         session.close()
+
+
+def _base_arguments(data: dict[str, Any], check: str, kind: str, tool: Tool | None, case: Any) -> Any | None:
+    """The arguments to send before the recorded request, or None: the recorded base, or for a bound
+    finding of a file that does not hold one, the value one step inside the bound."""
+    if check not in ANCHORED_CHECKS:
+        return None
+    base = data.get("base")
+    if isinstance(base, dict) and "arguments" in base:
+        return base["arguments"]
+    if check == "bounds_honoured" and kind == "go" and tool is not None and case.arguments is not None:
+        from feeler.world.anchor import inside_arguments
+
+        try:
+            return inside_arguments(tool.input_schema, case)
+        except Exception:  # a schema feeler cannot compile: no base, judged as recorded
+            return None
+    return None
+
+
+def _send_base(session: Any, tool: str, arguments: Any, timeout: float) -> tuple[str | None, str, str]:
+    """Call *tool* with the base *arguments*: its outcome, the request text, and a refusal's text."""
+    from feeler.world.anchor import outcome, refusal_text
+
+    try:
+        ex = session.call_tool(tool, arguments, timeout=timeout)
+    except TargetError as exc:
+        return "broke", json.dumps({"name": tool, "arguments": arguments}, ensure_ascii=False), str(exc)
+    result = outcome(ex)
+    return result, ex.request_text, refusal_text(ex)[:300] if result != "entered" else ""

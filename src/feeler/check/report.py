@@ -7,7 +7,7 @@ from typing import Any
 
 from feeler.check.runner import RunReport
 
-__all__ = ["report_json", "report_text", "totals_line"]
+__all__ = ["report_json", "report_text", "totals_line", "totals_words"]
 
 
 def _median(values: list[float]) -> float:
@@ -78,8 +78,11 @@ def report_text(report: RunReport, *, verbose: bool = False) -> str:
 
 def totals_line(findings: Any) -> str:
     """``N findings (E errors, W warnings)``: warnings are findings too."""
-    total = len(findings)
-    errors = len(findings.errors())
+    return totals_words(len(findings), len(findings.errors()))
+
+
+def totals_words(total: int, errors: int) -> str:
+    """``N findings (E errors, W warnings)`` for *total* findings of which *errors* are errors."""
     warnings = total - errors
     return (
         f"{total} finding{'s' if total != 1 else ''} "

@@ -18,6 +18,7 @@ from typing import Any
 from feeler._signals import held
 from feeler.catalog import Catalog, Tool
 from feeler.check.findings import Finding, FindingSet
+from feeler.check.replay import ANCHORED_CHECKS
 from feeler.check.registry import CallContext, Check, CheckSettings, Problem, select_checks
 from feeler.connect import capture, open_session
 from feeler.errors import RemoteProtocolError, RequestTimeout, SchemaProblem, ServerExited, TargetError
@@ -283,7 +284,7 @@ class Runner:
             self.run_chains()
         finally:
             self.close()
-        self._write_replays()
+        self.write_replays()
         return self.report
 
     def audit(self) -> RunReport:
@@ -316,9 +317,10 @@ class Runner:
             self.report.tools[tool.name] = ToolStats(tool.name, annotated=tool.annotated)
         return self.report.tools[tool.name]
 
-    def skip_reason(self, tool: Tool) -> str | None:
+    def skip_reason(self, tool: Tool, option: str = "--allow-destructive") -> str | None:
+        """Why *tool* is not called, naming the *option* that would call it (the CLI's, or pytest's)."""
         if tool.destructive and not self.options.allow_destructive:
-            return "annotated destructive (destructiveHint); pass --allow-destructive to call it"
+            return f"annotated destructive (destructiveHint); pass {option} to call it"
         return None
 
     def run_tool(self, tool: Tool, kinds: tuple[str, ...] = CASE_KINDS_RUN) -> list[Finding]:
@@ -441,6 +443,7 @@ class Runner:
         if self.last_call is not None:
             judged = CallContext("go", tool, self.revision, self.era, self.settings, exchange=refused.exchange, case=case)
             judged.base = outcome(self.last_call.exchange, self.last_call.failure)
+            judged.base_arguments = inside
             self._evaluate(judged, only=("bounds_honoured",))
         return bool(going)
 
@@ -592,7 +595,8 @@ class Runner:
                     stats.go_entered += 1
         elif ctx.kind == "no-go":
             verdict = stats.world.note_nogo(ctx.case, ex, ctx.failure)
-            ctx.base = "entered" if verdict in ("stopped", "entered") and stats.world.base_of(ctx.case) is not None else None
+            ctx.base_arguments = stats.world.base_of(ctx.case)
+            ctx.base = "entered" if verdict in ("stopped", "entered") and ctx.base_arguments is not None else None
             stats.nogo_calls += 1
             if ex is not None and ex.error is not None and ex.error.get("code") == -32602:
                 stats.nogo_stopped_protocol += 1
@@ -646,6 +650,8 @@ class Runner:
             answer_text=red.text(answer) if answer else answer,
             tools=list(problem.tools),
         )
+        if ctx.base_arguments is not None and check in ANCHORED_CHECKS:
+            finding.extra["base"] = red.json(ctx.base_arguments)
         if self.report.findings.add(finding):
             self.progress(f"  {finding.severity}: [{check}] {finding.tool or ''} {finding.message}")
 
@@ -667,12 +673,14 @@ class Runner:
         answers = [f.text for f in ex.frames if f.direction == "in"]
         return answers[-1] if answers else None
 
-    def _write_replays(self) -> None:
+    def write_replays(self, findings: list[Finding] | None = None) -> None:
+        """Write the replay file of each of *findings* (default: every finding of the run); a file is named
+        after the finding's signature, so writing it again updates it."""
         from feeler.check.replay import write_replay
 
         if not self.options.replay_dir or self.options.dry_run:
             return
-        for finding in self.report.findings:
+        for finding in self.report.findings if findings is None else findings:
             if finding.request_text:
                 finding.replay = write_replay(self.options.replay_dir, self.target, finding, self.settings)
 

@@ -9,6 +9,7 @@ which makes this the fast path for Python server authors (``feeler check my_pkg.
 from __future__ import annotations
 
 import importlib
+import os
 import queue
 import sys
 from collections.abc import Mapping
@@ -22,13 +23,29 @@ __all__ = ["InProcessTransport", "load_server_object"]
 _EXITED = object()
 
 
-def load_server_object(spec: str) -> Any:
-    """Import ``module:attribute`` and return the object; errors say which part was wrong."""
+def load_server_object(spec: str, cwd: str | None = None) -> Any:
+    """Import ``module:attribute`` and return the object; errors say which part was wrong.
+
+    With *cwd*, the module is imported from that folder: it comes first on ``sys.path`` and is the working
+    folder while the module is imported (feeler's own working folder is restored afterwards).
+    """
     module_name, sep, attr = spec.partition(":")
     if not sep or not module_name or not attr:
         raise UsageError(f"{spec!r} is not module:attribute (for example my_package.server:app)")
     if "." not in sys.path and "" not in sys.path:
         sys.path.insert(0, "")  # like `python -m`: modules in the working directory are importable
+    if cwd is not None:
+        folder = os.path.abspath(cwd)
+        if not os.path.isdir(folder):
+            raise UsageError(f"{spec}: --cwd {cwd!r} is not a folder")
+        if folder not in sys.path:
+            sys.path.insert(0, folder)
+        before = os.getcwd()
+        os.chdir(folder)
+        try:
+            return load_server_object(spec)
+        finally:
+            os.chdir(before)
     try:
         module = importlib.import_module(module_name)
     except ModuleNotFoundError as exc:
@@ -94,9 +111,14 @@ class InProcessTransport(Transport):
 
     kind = "inprocess"
 
-    def __init__(self, target: str, spec: str, *, max_message_bytes: int = DEFAULT_MAX_MESSAGE_BYTES) -> None:
+    def __init__(self, target: str, spec: str, *, env: Mapping[str, str] | None = None, cwd: str | None = None,
+                 max_message_bytes: int = DEFAULT_MAX_MESSAGE_BYTES) -> None:
         super().__init__(target, max_message_bytes=max_message_bytes)
         self.spec = spec
+        #: set in this process's environment while the session is open (the server runs here)
+        self.env = dict(env or {})
+        self.cwd = cwd
+        self._saved_env: dict[str, str | None] | None = None
         self._out: queue.SimpleQueue[Any] = queue.SimpleQueue()
         self._portal_cm: Any = None
         self._portal: Any = None
@@ -113,7 +135,12 @@ class InProcessTransport(Transport):
             raise UsageError(
                 f"{self.target}: in-process targets need the official SDK: python -m pip install 'feeler[demo]'"
             ) from exc
-        low = _lowlevel(load_server_object(self.spec), self.spec)
+        self._set_env()
+        try:
+            low = _lowlevel(load_server_object(self.spec, self.cwd), self.spec)
+        except BaseException:
+            self._restore_env()
+            raise
         self._portal_cm = start_blocking_portal()
         self._portal = self._portal_cm.__enter__()
         send_stream, receive_stream = self._portal.call(_make_stream, anyio)
@@ -126,6 +153,19 @@ class InProcessTransport(Transport):
 
         self._future = self._portal.start_task_soon(serve)
         self._future.add_done_callback(self._on_exit)
+
+    def _set_env(self) -> None:
+        if self.env and self._saved_env is None:
+            self._saved_env = {name: os.environ.get(name) for name in self.env}
+            os.environ.update(self.env)
+
+    def _restore_env(self) -> None:
+        saved, self._saved_env = self._saved_env, None
+        for name, value in (saved or {}).items():
+            if value is None:
+                os.environ.pop(name, None)
+            else:
+                os.environ[name] = value
 
     def _on_exit(self, future: Any) -> None:
         if future.cancelled():
@@ -172,6 +212,7 @@ class InProcessTransport(Transport):
     def close(self) -> None:
         portal, self._portal = self._portal, None
         if portal is None:
+            self._restore_env()
             return
         try:
             portal.call(self._send_stream.aclose)
@@ -191,6 +232,7 @@ class InProcessTransport(Transport):
             self._portal_cm.__exit__(None, None, None)
         except Exception:
             pass
+        self._restore_env()
 
 
 def _make_stream(anyio: Any) -> Any:
