@@ -110,7 +110,7 @@ def test_interrupted_campaign_continues(several: Target, tmp_path: Path) -> None
     # A stop signal waits while a finished call is counted and logged (feeler._signals.held): they agree.
     assert state["done"] is False and len(_lines(log)) == state["calls"]
     before_lines = _lines(log)
-    before_findings = {f["check"] + "|" + str(f["tool"]) + "|" + f["error_class"] for f in state["findings"]}
+    before_findings = {f["check"] + "|" + str(f["tool"]) + "|" + f["errorClass"] for f in state["findings"]}  # camelCase, like every JSON feeler writes
     # A later kill in the middle of a write leaves half a line: the next start cuts it.
     with log.open("a", encoding="utf-8") as handle:
         handle.write('{"time": "2026-')

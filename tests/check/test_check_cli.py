@@ -20,17 +20,24 @@ def test_dry_run_calls_no_tool(tmp_path: Path) -> None:
     code, out, err = run_cli(args)
     assert code == 0, err
     planned = [json.loads(line) for line in out.splitlines()]  # JSON Lines (RFC 8259 objects, one a line)
-    assert planned and {row["tool"] for row in planned} == {"echo"}
-    assert {"go", "no-go"} <= {row["kind"] for row in planned}
+    assert planned and {row["tool"] for row in planned if row["kind"] != "probe"} == {"echo"}
+    assert {"go", "no-go", "probe"} <= {row["kind"] for row in planned}
     assert {"schema", "sampled"} <= {row["source"] for row in planned}
     assert all(row["instanceLocation"] is None or row["instanceLocation"] == "" or row["instanceLocation"].startswith("/")
                for row in planned)
     assert "calls would be made (dry run)" in err
     assert not log.exists()  # the server never saw a tools/call
-    # The same server without --dry-run records the calls: the log proves what it claims.
+    # The same server without --dry-run records the calls: the log proves what the dry run claims.
     code, _, _ = run_cli(["check", "--no-probes", "--samples", "2", "--replay-dir", str(tmp_path / "r"),
                           "--env", f"FEELER_CALL_LOG={log}", "--", PY, str(FAULTY), "record"])
-    assert code == 0 and len(log.read_text().splitlines()) >= len(planned)
+    sent = [json.loads(line)["arguments"] for line in log.read_text().splitlines()]
+    assert code == 0 and len(sent) >= len([row for row in planned if row["kind"] != "probe"])
+    # The go cases (boundary and sampled: the same hypothesis draws) are sent exactly as listed, in order;
+    # the no-go cases say that they depend on answers (anchored on go arguments that entered).
+    go = [row for row in planned if row["kind"] == "go"]
+    assert all(row["dependsOnAnswers"] is None for row in go)  # echo has no input learned values could fill
+    assert sent[: len(go)] == [row["arguments"] for row in go]
+    assert all(row["dependsOnAnswers"].startswith("anchored") for row in planned if row["kind"] == "no-go")
 
 
 def test_dry_run_on_a_server_that_dies_on_any_call() -> None:
@@ -43,14 +50,14 @@ def test_destructive_tool_called_only_when_allowed(tmp_path: Path) -> None:
     base = ["--no-probes", "--samples", "1", "--replay-dir", str(tmp_path), "--include", "cancel_booking", DEMO]
     code, report = cli_json(base)
     assert code == 0 and report["tools"]["cancel_booking"]["skipped"]
-    assert report["tools"]["cancel_booking"]["goCalls"] == 0
+    assert report["tools"]["cancel_booking"]["go"]["calls"] == 0
     code, report = cli_json(["--allow-destructive", *base])
     # Alone, cancel_booking meets no booking (book_berth, which makes them, is left out): the one error is
     # the values_needed hint, not a wall of refusals.
     errors = [f for f in report["findings"] if f["severity"] == "error"]
     assert code == 1 and [f["check"] for f in errors] == ["values_needed"], errors
     stats = report["tools"]["cancel_booking"]
-    assert stats["skipped"] is None and stats["goCalls"] > 0 and stats["nogoCalls"] > 0
+    assert stats["skipped"] is None and stats["go"]["calls"] > 0 and stats["noGo"]["calls"] > 0
 
 
 def test_text_output_lists_unannotated_and_skipped_tools(tmp_path: Path) -> None:

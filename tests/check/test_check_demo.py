@@ -102,7 +102,7 @@ def test_demo_destructive_tool_skipped_and_unannotated_listed(demo_run: tuple[in
     _, report, _ = demo_run
     for name in DESTRUCTIVE_TOOLS:
         assert "destructiveHint" in (report["tools"][name]["skipped"] or "")
-        assert report["tools"][name]["goCalls"] == report["tools"][name]["nogoCalls"] == 0
+        assert report["tools"][name]["go"]["calls"] == report["tools"][name]["noGo"]["calls"] == 0
     for name in UNANNOTATED_TOOLS:
         assert report["tools"][name]["annotated"] is False
     assert all(report["tools"][n]["annotated"] for n in report["tools"] if n not in UNANNOTATED_TOOLS)
@@ -171,4 +171,4 @@ def test_clean_reference_has_no_errors(tmp_path: Path) -> None:
     tools = report["tools"]
     assert set(tools) == {"convert_length", "word_count", "schedule_slot", "tag_items"}
     for name, stats in tools.items():  # every tool was really exercised
-        assert stats["goEntered"] > 0 and stats["nogoCalls"] > 0 and stats["nogoEntered"] == 0, name
+        assert stats["go"]["entered"] > 0 and stats["noGo"]["calls"] > 0 and stats["noGo"]["entered"] == 0, name

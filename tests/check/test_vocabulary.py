@@ -17,6 +17,9 @@ from feeler.cli import COMMANDS, run
 
 #: idea -> (its one name as users see it, the former or borrowed spellings that must not appear)
 VOCABULARY: dict[str, tuple[str, tuple[str, ...]]] = {
+    "go counters": ('"go": {"calls"', ("goCalls", "goEntered", "goIsError")),
+    "no-go counters": ('"noGo"', ("nogoCalls", "nogoStoppedProtocol", "nogoStoppedIsError", "nogoEntered",
+                                  "nogoVerdicts", '"nogo"')),
     "check: go cases must be accepted": ("go_enters", ("go_accepted",)),
     "check: no-go cases must be stopped": ("nogo_stops", ("nogo_rejected",)),
     "check: a tool accepts some go case": ("gate_opens", ("accepts_some_go",)),
@@ -44,8 +47,12 @@ def _help(*args: str, capsys: pytest.CaptureFixture[str]) -> str:
 
 
 def _assert_clean(text: str, where: str) -> None:
+    # Words and option names count whatever their case ("Drawn" is "drawn"); JSON keys and quoted names
+    # (with capitals or quotes: "nogoVerdicts", '"nogo"') count as spelt, so that "noGo" is not "nogo".
     for old in FORBIDDEN:
-        assert old not in text, f"{where}: the former spelling {old!r} is shown; use the vocabulary's name"
+        exact = old != old.lower() or '"' in old
+        found = re.search(re.escape(old), text, flags=0 if exact else re.IGNORECASE)
+        assert found is None, f"{where}: the former spelling {old!r} is shown as {found.group(0)!r}; use the vocabulary's name"
 
 
 def test_the_command_line_help_uses_one_spelling(capsys: pytest.CaptureFixture[str]) -> None:
@@ -119,3 +126,60 @@ def test_the_json_reports_use_one_spelling(tmp_path: Path) -> None:
     change = diff["changes"][0]
     assert "rule" in change and "kind" not in change
     assert change["keywordLocation"].startswith("/") and change["instanceLocation"].startswith("/")
+
+
+def _walk_keys(value: object, where: str, skip: tuple[str, ...] = ("arguments", "tools", "server", "witness",
+                                                                    "latencyBudget", "learnedFrom", "values")) -> None:
+    """Every JSON key is camelCase (MCP's own style), below keys that hold user data."""
+    if isinstance(value, dict):
+        for key, inner in value.items():
+            assert re.fullmatch(r"[a-z][A-Za-z0-9]*", str(key)), f"{where}: JSON key {key!r} is not camelCase"
+            if key not in skip:
+                _walk_keys(inner, where, skip)
+    elif isinstance(value, list):
+        for inner in value:
+            _walk_keys(inner, where, skip)
+
+
+def test_every_written_json_uses_one_spelling(tmp_path: Path, capsys: pytest.CaptureFixture[str]) -> None:
+    """The report document, replay files, the call log, campaign state and `feeler cases`: one spelling per
+    idea, camelCase keys, counters named as in the report document (DEVELOPERS.md, "Vocabulary")."""
+    from check_helpers import faulty
+
+    server = faulty("accepts-anything")
+    command = ["--", *server.command]
+    camp = tmp_path / "camp"
+    assert run(["campaign", "--budget", "3s", "--samples", "2", "--folder", str(camp), "--report-dir",
+                str(tmp_path / "rep"), "--replay-dir", str(tmp_path / "replays"), "--example-db", "none", *command]) == 1
+    capsys.readouterr()
+    texts: dict[str, str] = {
+        "feeler-report.json": (tmp_path / "rep" / "feeler-report.json").read_text(encoding="utf-8"),
+        "campaign state.json": (camp / "state.json").read_text(encoding="utf-8"),
+    }
+    for line_no, line in enumerate((camp / "calls.jsonl").read_text(encoding="utf-8").splitlines()[:50]):
+        texts[f"calls.jsonl line {line_no + 1}"] = line
+    replays = sorted((tmp_path / "replays").rglob("*.replay.json"))
+    assert replays, "the campaign wrote no replay file"
+    for path in replays:
+        texts[str(path.relative_to(tmp_path))] = path.read_text(encoding="utf-8")
+    assert run(["check", "--format", "json", "--samples", "1", "--no-probes", "--replay-dir", str(tmp_path / "r2"),
+                *command]) == 1
+    texts["feeler check --format json"] = capsys.readouterr().out
+    schema = tmp_path / "schema.json"
+    schema.write_text(json.dumps({"type": "object", "properties": {"n": {"type": "integer", "minimum": 1}},
+                                  "required": ["n"]}), encoding="utf-8")
+    assert run(["cases", str(schema)]) == 0
+    texts["feeler cases"] = capsys.readouterr().out
+    assert run(["check", "--dry-run", "--samples", "1", *command]) == 0
+    texts["feeler check --dry-run"] = capsys.readouterr().out
+    for where, text in texts.items():
+        _assert_clean(text, where)
+        for line in text.splitlines() if where in ("feeler cases", "feeler check --dry-run") else [text]:
+            _walk_keys(json.loads(line), where)
+    doc = json.loads(texts["feeler-report.json"])
+    check = json.loads(texts["feeler check --format json"])
+    tool = doc["tools"][0]
+    # the same counters under the same names in both outputs
+    assert set(tool["go"]) == set(check["tools"][tool["name"]]["go"]) == {"calls", "entered", "stopped"}
+    assert set(tool["noGo"]) == set(check["tools"][tool["name"]]["noGo"]) == {"calls", "stoppedByCode",
+                                                                              "stoppedByIsError", "entered"}

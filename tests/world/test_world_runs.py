@@ -51,8 +51,8 @@ def test_without_values_one_hint_per_tool_and_no_attributable_verdict(tmp_path: 
     assert not [f for f in report["findings"] if f["kind"] == "go" and f["severity"] == "error"]
     for name in TOOLS:
         tool = report["tools"][name]
-        assert tool["goEntered"] == 0 and tool["nogoCalls"] > 0
-        assert tool["nogoVerdicts"]["stopped"] == 0 and tool["nogoVerdicts"]["unattributed"] == tool["nogoCalls"]
+        assert tool["go"]["entered"] == 0 and tool["noGo"]["calls"] > 0
+        assert tool["noGoVerdicts"]["stopped"] == 0 and tool["noGoVerdicts"]["unattributed"] == tool["noGo"]["calls"]
         assert tool["attributableShare"] == 0
     assert not _by(report, *NOGO)  # the planted type defect stays behind the gate
     # On-bound depth values were refused for the root, not the bound: their bases were refused too.
@@ -65,11 +65,11 @@ def test_with_the_root_every_tool_enters_and_the_type_defect_shows(tmp_path: Pat
     assert not _by(report, "values_needed") and not _by(report, *GATE)
     for name in TOOLS:
         tool = report["tools"][name]
-        assert tool["goEntered"] > 0 and tool["enteredBySource"].get("known", 0) > 0
+        assert tool["go"]["entered"] > 0 and tool["enteredBySource"].get("known", 0) > 0
         assert tool["attributableShare"] > 0.9
     [defect] = _by(report, *NOGO)
     assert defect["tool"] == "list_entries" and defect["keyword"] == "type" and _location(defect) == "/depth"
-    assert report["tools"]["list_entries"]["nogoVerdicts"]["entered"] >= 1
+    assert report["tools"]["list_entries"]["noGoVerdicts"]["entered"] >= 1
     # The reference validator agrees the arguments break "type" (a numeric string is not an integer).
     depth_schema = {"type": "integer", "minimum": 0, "maximum": 5}
     assert isinstance(defect["arguments"]["depth"], str) and not jsonschema.Draft202012Validator(depth_schema).is_valid(defect["arguments"]["depth"])

@@ -10,7 +10,7 @@ from typing import Any
 
 import click
 
-from feeler.cli_options import ConnectOptions, target_options
+from feeler.cli_options import ConnectOptions, renamed_option, target_options
 from feeler.report.cli import report_options, write_from_options
 
 __all__ = ["campaign"]
@@ -62,13 +62,15 @@ def _terminate(_signum: int, _frame: Any) -> None:
 @target_options
 @click.option("--budget", required=True, metavar="DURATION", help="Time for the whole campaign: 90s, 15m, 2h, 1h30m.")
 @click.option("--shard", default=None, metavar="i/n", help="Run only shard i of n (tools split by name; every tool in one shard).")
-@click.option("--samples", type=click.IntRange(min=1), default=20, show_default=True, help="Drawn go cases per tool in the first round (doubles each round).")
+@click.option("--samples", type=click.IntRange(min=1), default=None, help="Sampled go cases per tool in the first round (doubles each round) [20].")
+@renamed_option("--go-examples", "--samples", "samples", type=click.IntRange(min=1))
 @click.option("--max-samples", type=click.IntRange(min=1), default=2000, show_default=True, help="Most sampled go cases per tool in one round.")
 @click.option("--example-db", default=None, metavar="DIR|redis://HOST:PORT/N|none",
               help="hypothesis example database: failing examples are retried first next time [.feeler/examples].")
 @click.option("--folder", default=None, metavar="DIR", help="Campaign folder: state and call log [.feeler/campaigns/TARGET[-shard-i-of-n]].")
 @click.option("--fresh", is_flag=True, help="Start afresh even if an interrupted campaign can be continued.")
-@click.option("--sample-seed", "seed", type=int, default=0, show_default=True, help="Sample seed of the first round (round r uses seed + r).")
+@click.option("--sample-seed", "seed", type=int, default=None, help="Sample seed of the first round (round r uses seed + r) [0].")
+@renamed_option("--seed", "--sample-seed", "seed", type=int)
 @click.option("--include", multiple=True, metavar="PATTERN", help="Only tools matching this glob (repeatable).")
 @click.option("--exclude", multiple=True, metavar="PATTERN", help="Skip tools matching this glob (repeatable).")
 @click.option("--allow-destructive", is_flag=True, help="Also call tools annotated destructiveHint: true.")
@@ -92,6 +94,10 @@ def campaign(**kwargs: Any) -> int:
     report_dir, report_formats = kwargs.pop("report_dir"), kwargs.pop("report_formats")
     db_spec = kwargs.pop("example_db") or DEFAULT_EXAMPLE_DB
     opts = ConnectOptions(kwargs)
+    if kwargs["samples"] is None:
+        kwargs["samples"] = 20
+    if kwargs["seed"] is None:
+        kwargs["seed"] = 0
     slug = opts.target.slug() + (f"-shard-{shard[0]}-of-{shard[1]}" if shard else "")
     folder = kwargs["folder"] or os.path.join(".feeler", "campaigns", slug)
     options = RunOptions(

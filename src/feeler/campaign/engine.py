@@ -161,6 +161,7 @@ class Campaign:
         self.started_at: str | None = None
         self.tool_names: list[str] = []
         self._load()
+        self._made = _missing_folders(options.folder)  # removed again if nothing is done
         self.log = CallLog(self.log_path)
         self._extra_on_call = on_call
         self._clock = time.monotonic()
@@ -185,8 +186,10 @@ class Campaign:
         self.started_at = state["startedAt"]
         self.tool_names = state["tools"]
         self.runner.report.restarts = state.get("restarts", 0)
+        names = {f.name for f in dataclasses.fields(Finding)}
         for data in state["findings"]:
-            self.runner.report.findings.add(Finding(**data))
+            fields = {_FINDING_FIELDS.get(k, _snake(k)): v for k, v in data.items()}
+            self.runner.report.findings.add(Finding(**{k: v for k, v in fields.items() if k in names}))
         for data in state["stats"]:
             self.runner.report.tools[data["name"]] = _stats_from(data)
 
@@ -282,8 +285,21 @@ class Campaign:
             self.runner.close()
         finally:
             self.runner.write_replays()
-            self.save(done=done)
             self.log.close()
+            if self.tool_names or self.resumed:
+                self.save(done=done)
+            else:  # nothing was done (the server could not be reached): leave no campaign behind
+                self._forget()
+
+    def _forget(self) -> None:
+        for path in (self.state_path, self.log_path):
+            if os.path.exists(path) and (path == self.log_path or not self.resumed):
+                os.unlink(path)
+        for folder in self._made:
+            try:
+                os.rmdir(folder)  # only if empty
+            except OSError:
+                break
 
     def summary(self) -> dict[str, Any]:
         """The ``campaign`` object of the report document."""
@@ -296,32 +312,79 @@ class Campaign:
         }
 
 
+def _missing_folders(folder: str) -> list[str]:
+    """The folders that do not exist yet on the way to *folder*, deepest first."""
+    out, path = [], os.path.abspath(folder)
+    while not os.path.exists(path) and os.path.dirname(path) != path:
+        out.append(path)
+        path = os.path.dirname(path)
+    return out
+
+
 class _BudgetSpent(BaseException):
     """Raised from the call hook when the budget is spent, to stop mid-step. A BaseException, so that
     hypothesis passes it on at once instead of shrinking it as a failure."""
 
 
+#: Finding fields stored under the name every JSON output uses (the rest: camelCase of the field name)
+_FINDING_KEYS = {"revision": "protocolVersion", "path": "instanceLocation"}
+_FINDING_FIELDS = {v: k for k, v in _FINDING_KEYS.items()}
+
+
+def _camel(name: str) -> str:
+    head, *rest = name.split("_")
+    return head + "".join(part[:1].upper() + part[1:] for part in rest)
+
+
+def _snake(name: str) -> str:
+    return re.sub(r"(?<=[a-z0-9])([A-Z])", lambda m: "_" + m.group(1).lower(), name)
+
+
 def _finding_data(finding: Any) -> dict[str, Any]:
-    return {f.name: getattr(finding, f.name) for f in dataclasses.fields(finding)}
+    data = {_FINDING_KEYS.get(f.name, _camel(f.name)): getattr(finding, f.name) for f in dataclasses.fields(finding)}
+    data["instanceLocation"] = finding.instance_location  # a JSON Pointer; read back as the finding's path
+    return data
 
 
 #: not kept across a resume: cases and bases are remade, the world summary starts again each run
 _STATS_SKIP = ("cases", "coverage", "durations", "world", "bases")
 
 
+#: ToolStats counter fields -> (group, key) as every JSON output names them (ToolStats.counters)
+_COUNTERS = {
+    "go_calls": ("go", "calls"), "go_entered": ("go", "entered"), "go_is_error": ("go", "stopped"),
+    "nogo_calls": ("noGo", "calls"), "nogo_stopped_protocol": ("noGo", "stoppedByCode"),
+    "nogo_stopped_is_error": ("noGo", "stoppedByIsError"), "nogo_entered": ("noGo", "entered"),
+}  # fmt: skip
+
+
 def _stats_data(stats: Any) -> dict[str, Any]:
-    data = {f.name: getattr(stats, f.name) for f in dataclasses.fields(stats) if f.name not in _STATS_SKIP}
+    skip = (*_STATS_SKIP, *_COUNTERS)
+    data = {_camel(f.name): getattr(stats, f.name) for f in dataclasses.fields(stats) if f.name not in skip}
+    data.update(stats.counters())
     data["durations"] = stats.durations[-_STATE_DURATIONS:]
-    data["coverage"] = [dataclasses.asdict(c) for c in stats.coverage]
+    data["coverage"] = [{"keywordLocation": f"{c.schema_path}/{c.keyword}", "keyword": c.keyword, "go": c.go,
+                         "noGo": c.nogo, "reason": c.reason} for c in stats.coverage]  # fmt: skip
     return data
+
+
+def _coverage_from(data: dict[str, Any]) -> Any:
+    from feeler.generate.coverage import KeywordCoverage
+
+    if "keywordLocation" not in data:  # a state of the previous release
+        return KeywordCoverage(**data)
+    node = str(data["keywordLocation"])[: -len(str(data["keyword"])) - 1]
+    return KeywordCoverage(node, data["keyword"], data["go"], data["noGo"], data.get("reason"))
 
 
 def _stats_from(data: dict[str, Any]) -> Any:
     from feeler.check.runner import ToolStats
-    from feeler.generate.coverage import KeywordCoverage
 
-    data = dict(data)
-    coverage = [KeywordCoverage(**c) for c in data.pop("coverage", [])]
+    data = {_snake(k): v for k, v in data.items()}
+    for field_name, (group, key) in _COUNTERS.items():
+        if isinstance(data.get(_snake(group)), dict):
+            data[field_name] = data[_snake(group)].get(key, 0)
+    coverage = [_coverage_from(c) for c in data.pop("coverage", [])]
     names = {f.name for f in dataclasses.fields(ToolStats)}
     stats = ToolStats(**{k: v for k, v in data.items() if k in names})
     stats.coverage = coverage

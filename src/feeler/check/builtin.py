@@ -145,13 +145,13 @@ def go_enters(ctx: CallContext) -> Iterator[Problem]:
         return
     if ex.error is not None and ex.error.get("code") == INVALID_PARAMS:
         yield Problem(
-            f"valid arguments{_where(ctx)} were refused as invalid params: {str(ex.error.get('message'))[:200]}",
+            f"valid arguments{_where(ctx)} were refused as invalid params: {str(ex.error.get('message'))}",
             error_class="refused-valid",
         )
     elif ex.error is not None and ex.error.get("code") == INTERNAL_ERROR:
-        yield Problem(f"valid arguments{_where(ctx)} caused an internal error: {str(ex.error.get('message'))[:200]}", error_class="internal-error")
+        yield Problem(f"valid arguments{_where(ctx)} caused an internal error: {str(ex.error.get('message'))}", error_class="internal-error")
     elif ex.is_error_result and ctx.settings.strict_go:
-        text = " ".join(_texts(ex.result))[:200]
+        text = " ".join(_texts(ex.result))
         yield Problem(f"valid arguments{_where(ctx)} got isError: {text}", error_class="is-error")
 
 
@@ -165,7 +165,7 @@ def bounds_honoured(ctx: CallContext) -> Iterator[Problem]:
     if ex is None or ctx.case is None or ctx.base != "entered" or ctx.keyword not in BOUND_KEYWORDS:
         return
     if ex.is_error_result:
-        text = " ".join(_texts(ex.result))[:160]
+        text = " ".join(_texts(ex.result))
         yield Problem(
             f"the value on the bound{_where(ctx)} is allowed by the schema but the tool refused it, "
             f"while it accepted the same arguments just inside the bound: {text}",
@@ -210,7 +210,7 @@ def no_crash(ctx: CallContext) -> Iterator[Problem]:
         if reason:
             what = {"sdk-crash": "crashed (the SDK's text for an unexpected exception)", "traceback": "crashed (a traceback)"}
             yield Problem(
-                f"the tool {what.get(reason, 'raised an unhandled ' + reason.partition(':')[2])}{_where(ctx)}: {text.strip()[:200]}",
+                f"the tool {what.get(reason, 'raised an unhandled ' + reason.partition(':')[2])}{_where(ctx)}: {text.strip()}",
                 error_class=reason,
             )
             return
@@ -275,9 +275,12 @@ def output_schema(ctx: CallContext) -> Iterator[Problem]:
     errors = sorted(validator.iter_errors(ex.result["structuredContent"]), key=lambda e: list(e.absolute_path))
     if errors:
         first = errors[0]
-        where = "$" + "".join(f"[{p}]" if isinstance(p, int) else f".{p}" for p in first.absolute_path)
+        from feeler._json import json_pointer
+
+        where = json_pointer(first.absolute_path)
         yield Problem(
-            f"structuredContent breaks the outputSchema at {where}: {first.message[:200]}",
+            f"structuredContent breaks the outputSchema at instanceLocation {where!r} (keywordLocation "
+            f"{json_pointer(first.absolute_schema_path)!r}): {first.message}",
             error_class=f"invalid:{first.validator}",
         )
 

@@ -78,7 +78,8 @@ def _list_checks(ctx: click.Context, _param: click.Parameter, value: bool) -> No
 @renamed_option("--check", "--only-check", "only_checks", multiple=True)
 @click.option("--skip-check", "skip_checks", multiple=True, metavar="NAME", help="Do not run this check (repeatable).")
 @click.option("--no-probes", is_flag=True, help="Do not send protocol-level no-go requests.")
-@click.option("--dry-run", is_flag=True, help="Print the calls that would be made as JSON Lines; call no tool.")
+@click.option("--dry-run", is_flag=True,
+              help="Print the calls the run would make as JSON Lines (those that depend on answers say so); call no tool.")
 @click.option("--every-protocol-version", "every_revision", is_flag=True,
               help="Check under each protocol version the server supports, with a table.")
 @renamed_option("--every-revision", "--every-protocol-version", "every_revision", is_flag=True)
@@ -158,7 +159,10 @@ def check(**kwargs: Any) -> int:
 
         for call in report.planned:
             click.echo(json.dumps(call.to_json(), ensure_ascii=False, sort_keys=True))
-        click.echo(f"feeler: {len(report.planned)} calls would be made (dry run)", err=True)
+        depends = sum(1 for call in report.planned if call.depends)
+        click.echo(f"feeler: {len(report.planned)} calls would be made (dry run); {depends} of them may differ in the "
+                   "real run, as their dependsOnAnswers says; not listed, as they depend on answers: the call one step "
+                   "inside a bound the tool refused, and the call chains (--chain-runs)", err=True)
         return 0
     click.echo(report_json(report) if fmt == "json" else report_text(report, verbose=verbose), nl=False)
     if report_dir:

@@ -37,6 +37,12 @@ def run_probes(runner: Runner, tool: Tool, stats: ToolStats) -> None:
         per_tool = probe.name in TOOL_PROBES
         if not per_tool and probe.name in runner.server_probes_sent:
             continue
+        if runner.options.dry_run:  # listed, not sent
+            from feeler.check.runner import Call
+
+            runner.report.planned.append(Call(tool.name if per_tool else None, "probe", probe.name, None, None, request=probe.text))
+            runner.server_probes_sent.add(probe.name)
+            continue
         ctx = CallContext("probe", tool if per_tool else None, runner.revision, runner.era, runner.settings, case=probe)
         try:
             session = runner.open()

@@ -50,8 +50,8 @@ def report_text(report: RunReport, *, verbose: bool = False) -> str:
                     lines.append("  learned from: " + ", ".join(f"{where} ({n})" for where, n in top))
             if stats.nogo_calls:
                 lines.append(f"  stops no-go cases with {stats.rejection_style(report.revision)}")
-            if stats.coverage:
-                cov = stats.coverage_summary()
+            cov = stats.coverage_summary()
+            if cov:
                 gaps = ", ".join(f"{g['keywordLocation'] or '/'}" for g in cov["gaps"][:4])
                 more = f" (+{len(cov['gaps']) - 4} more)" if len(cov["gaps"]) > 4 else ""
                 lines.append(
@@ -120,17 +120,12 @@ def report_json(report: RunReport) -> str:
             name: {
                 "skipped": s.skipped,
                 "annotated": s.annotated,
-                "goCalls": s.go_calls,
-                "goEntered": s.go_entered,
-                "goIsError": s.go_is_error,
-                "nogoCalls": s.nogo_calls,
-                "nogoStoppedProtocol": s.nogo_stopped_protocol,
-                "nogoStoppedIsError": s.nogo_stopped_is_error,
-                "nogoEntered": s.nogo_entered,
+                **s.counters(),
                 "probes": s.probes,
+                "timeouts": s.timeouts,
                 "medianSeconds": _median(s.durations),
                 "schemaProblem": s.schema_problem,
-                "coverage": s.coverage_summary() if s.coverage else None,
+                "coverage": s.coverage_summary(),
                 **s.world.summary(),
                 "learnedFrom": dict(sorted(s.learned_from.items())),
             }

@@ -101,16 +101,34 @@ class ToolStats:
     #: entered go cases per provenance of a learned value ("list_roots /structuredContent/roots/0": 2)
     learned_from: dict[str, int] = field(default_factory=dict)
 
-    def coverage_summary(self) -> dict[str, Any]:
+    def counters(self) -> dict[str, Any]:
+        """The go and no-go counters, as every JSON output names them (``check --format json`` and the
+        report document): ``go`` (calls, entered, stopped: answered isError) and ``noGo`` (calls,
+        stoppedByCode: -32602, stoppedByIsError, entered)."""
+        return {
+            "go": {"calls": self.go_calls, "entered": self.go_entered, "stopped": self.go_is_error},
+            "noGo": {
+                "calls": self.nogo_calls,
+                "stoppedByCode": self.nogo_stopped_protocol,
+                "stoppedByIsError": self.nogo_stopped_is_error,
+                "entered": self.nogo_entered,
+            },
+        }
+
+    def coverage_summary(self) -> dict[str, Any] | None:
         """How many schema keywords (by location) were gauged at both ends (a go and a no-go case), and
-        which were not, and why."""
-        full = [c for c in self.coverage if c.go and c.nogo]
-        gaps = [
-            {"keywordLocation": f"{c.schema_path}/{c.keyword}", "keyword": c.keyword, "go": c.go, "nogo": c.nogo, "reason": c.reason}
-            for c in self.coverage
-            if not (c.go and c.nogo)
-        ]
-        return {"keywords": len(self.coverage), "gaugedBothEnds": len(full), "gaps": gaps}
+        which were not, and why (``go``/``noGo``: whether a case of that end was sent); None without cases."""
+        if not self.coverage:
+            return None
+        gaps = []
+        for item in self.coverage:
+            if item.go and item.nogo:
+                continue
+            node = str(item.schema_path)
+            location = node if node.endswith("/" + item.keyword) else f"{node}/{item.keyword}"
+            gaps.append({"keywordLocation": location, "keyword": item.keyword, "go": bool(item.go),
+                         "noGo": bool(item.nogo), "reason": item.reason})  # fmt: skip
+        return {"keywords": len(self.coverage), "gaugedBothEnds": len(self.coverage) - len(gaps), "gaps": gaps}
 
     def rejection_style(self, revision: str) -> str:
         """Which way the tool stops no-go cases, and whether that fits protocol version *revision*."""
@@ -126,21 +144,28 @@ class ToolStats:
 
 @dataclass
 class Call:
-    """One planned or made call, for dry runs and logs."""
+    """One planned or made call, for dry runs and logs.
 
-    tool: str
+    :param depends: how the real run's call may differ, when that depends on the server's answers
+        (values learned from answers; no-go cases anchored on entered go arguments); None: sent as is.
+    :param request: the raw line of a protocol probe (its *arguments* are None).
+    """
+
+    tool: str | None  # None: a server-wide probe
     kind: str
     keyword: str | None
     path: str | None
     arguments: Any
     source: str = ""
     keyword_location: str | None = None
+    depends: str | None = None
+    request: str | None = None
 
     def to_json(self) -> dict[str, Any]:
         """One line of ``feeler check --dry-run`` (JSON Lines)."""
         from feeler._json import to_pointer
 
-        return {
+        out = {
             "tool": self.tool,
             "kind": self.kind,
             "keyword": self.keyword,
@@ -148,7 +173,11 @@ class Call:
             "instanceLocation": to_pointer(self.path),
             "source": self.source or None,
             "arguments": self.arguments,
+            "dependsOnAnswers": self.depends,
         }
+        if self.request is not None:
+            out["request"] = self.request
+        return out
 
 
 @dataclass
@@ -337,8 +366,7 @@ class Runner:
             stats.skipped = reason
         elif stats.schema_problem is None:
             if "go" in kinds:
-                if not self.options.dry_run:
-                    self.world.discover(self)
+                self.world.discover(self)
                 self._go(tool, stats)
                 self._guidance(tool, stats)
             if "no-go" in kinds:
@@ -414,14 +442,9 @@ class Runner:
             stats.cases.append(case)
             if not self._call_case(tool, stats, case) or not self._bound_base(tool, stats, case):
                 return
-        if self.options.samples <= 0 or self.options.dry_run:
-            if self.options.dry_run:
-                from feeler.generate import drawn_cases
-
-                for pick, case in enumerate(drawn_cases(tool.input_schema, self.options.samples, seed=self.options.sample_seed)):
-                    self._call_case(tool, stats, with_values(tool.input_schema, tool.name, case, self.pool, pick=pick, sources=CASE_SOURCES))
+        if self.options.samples <= 0:
             return
-        self._drawn_go(tool, stats, arguments(tool.input_schema))
+        self._drawn_go(tool, stats, arguments(tool.input_schema))  # a dry run draws the same cases
 
     def _bound_base(self, tool: Tool, stats: ToolStats, case: Any) -> bool:
         """An on-bound go case the tool refused: call its base (the value one step inside the bound) and
@@ -526,8 +549,6 @@ class Runner:
     def _probes(self, tool: Tool, stats: ToolStats) -> None:
         from feeler.check.probes import run_probes
 
-        if self.options.dry_run:
-            return
         run_probes(self, tool, stats)
 
     # -- one call --------------------------------------------------------------------------------
@@ -536,7 +557,8 @@ class Runner:
         (or, with *collect*, the names of the checks that failed, for the hypothesis property)."""
         if self.options.dry_run:
             self.report.planned.append(
-                Call(tool.name, case.kind, case.keyword, case.path, case.arguments, case.source, case.schema_path or None)
+                Call(tool.name, case.kind, case.keyword, case.path, case.arguments, case.source, case.schema_path or None,
+                     self._depends(tool, case))  # fmt: skip
             )
             return [] if collect else True
         if stats.timeouts >= self.options.max_timeouts_per_tool:
@@ -579,6 +601,14 @@ class Runner:
         if collect:
             return failed + alive_failed
         return stats.timeouts < self.options.max_timeouts_per_tool
+
+    def _depends(self, tool: Tool, case: Any) -> str | None:
+        """How the real run's call may differ from *case* (a dry run says so on each line)."""
+        if case.kind == "no-go":
+            return "anchored: the real run breaks this keyword in go arguments the tool entered, so its arguments may differ"
+        if self.world.takes_learned(tool.name):
+            return "values learned from earlier answers may fill identifier, path or name inputs"
+        return None
 
     def _count(self, stats: ToolStats, ctx: CallContext) -> None:
         ex = ctx.exchange

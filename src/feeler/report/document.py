@@ -49,22 +49,6 @@ def latency_summary(durations: list[float]) -> dict[str, Any]:
     }
 
 
-def _coverage(stats: ToolStats) -> dict[str, Any] | None:
-    if not stats.coverage:
-        return None
-    gaps = []
-    both = 0
-    for item in stats.coverage:
-        go, nogo = bool(getattr(item, "go", 0)), bool(getattr(item, "nogo", getattr(item, "no_go", 0)))
-        if go and nogo:
-            both += 1
-            continue
-        node = getattr(item, "schema_path", getattr(item, "keyword_location", ""))
-        location = node if str(node).endswith("/" + item.keyword) else f"{node}/{item.keyword}"
-        gaps.append({"keywordLocation": location, "keyword": item.keyword, "go": go, "noGo": nogo, "reason": item.reason})
-    return {"keywords": len(stats.coverage), "gaugedBothEnds": both, "gaps": gaps}
-
-
 def _tool(stats: ToolStats, findings: int) -> dict[str, Any]:
     return {
         "name": stats.name,
@@ -72,18 +56,12 @@ def _tool(stats: ToolStats, findings: int) -> dict[str, Any]:
         "annotated": stats.annotated,
         "schemaProblem": stats.schema_problem,
         "calls": stats.go_calls + stats.nogo_calls,
-        "go": {"calls": stats.go_calls, "entered": stats.go_entered, "stopped": stats.go_is_error},
-        "noGo": {
-            "calls": stats.nogo_calls,
-            "stoppedByCode": stats.nogo_stopped_protocol,
-            "stoppedByIsError": stats.nogo_stopped_is_error,
-            "entered": stats.nogo_entered,
-        },
+        **stats.counters(),
         "probes": stats.probes,
         "timeouts": stats.timeouts,
         "findings": findings,
         "latency": latency_summary(stats.durations),
-        "coverage": _coverage(stats),
+        "coverage": stats.coverage_summary(),
     }
 
 

@@ -186,7 +186,7 @@ class ToolWorld:
         share = self.attributable_share()
         return {
             "enteredBySource": dict(sorted(self.entered_by_source.items())),
-            "nogoVerdicts": {k: self.nogo[k] for k in ("stopped", "unattributed", "entered", "broke")},
+            "noGoVerdicts": {k: self.nogo[k] for k in ("stopped", "unattributed", "entered", "broke")},
             "attributableShare": round(share, 3) if share is not None else None,
             "hint": self.hint,
         }

@@ -102,6 +102,10 @@ class Learner:
         self._targets: dict[tuple[str, frozenset[str]], list[tuple[str, str]]] = {}
         self.learned = 0
 
+    def takes(self, tool: str) -> bool:
+        """Whether *tool* has an input learned values may go into."""
+        return any(t == tool for t, _, _ in self._inputs)
+
     def _targets_for(self, name: str, context: frozenset[str]) -> list[tuple[str, str]]:
         key = (name, context)
         found = self._targets.get(key)

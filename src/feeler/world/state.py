@@ -46,6 +46,11 @@ class World:
         self.learner = Learner(self.pool, tools) if learn else None
         self.discovered = False
 
+    def takes_learned(self, tool: str) -> bool:
+        """Whether values learned from answers may go into *tool*'s arguments (identifier, path or name
+        inputs, with learning on)."""
+        return self.learner is not None and self.learner.takes(tool)
+
     # -- the four hooks -------------------------------------------------------------------------
     def discover(self, runner: Runner) -> None:
         """Once per run: call each listing tool with ``{}`` (when the schema accepts it) as a go case."""
