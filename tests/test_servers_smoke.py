@@ -365,8 +365,7 @@ def test_reads_under_listed_roots(tmp_path: Path) -> None:
     with started(tmp_path, script("reads_under_listed_roots")) as wire:
         wire.handshake()
 
-        def call(name: str, arguments: dict[str, Any]) -> dict[str, Any]:
-            return tool_result(wire.call("tools/call", {"name": name, "arguments": arguments}))
+        call = _tool_caller(wire)
 
         roots = call("list_roots", {})["structuredContent"]["roots"]
         # MCP 2025-11-25 server/tools "Error Handling": refusals are isError results.
@@ -375,12 +374,20 @@ def test_reads_under_listed_roots(tmp_path: Path) -> None:
         assert call("stat_path", {"path": roots[1] + "/tide.txt"})["structuredContent"]["kind"] == "file"
 
 
+def _tool_caller(wire: Any) -> Any:
+    """``call(name, arguments)``: one tools/call on *wire*, its result (MCP server/tools CallToolResult)."""
+
+    def call(name: str, arguments: dict[str, Any]) -> dict[str, Any]:
+        return tool_result(wire.call("tools/call", {"name": name, "arguments": arguments}))
+
+    return call
+
+
 def test_records_lost_on_update(tmp_path: Path) -> None:
     with started(tmp_path, script("records_lost_on_update")) as wire:
         wire.handshake()
 
-        def call(name: str, arguments: dict[str, Any]) -> dict[str, Any]:
-            return tool_result(wire.call("tools/call", {"name": name, "arguments": arguments}))
+        call = _tool_caller(wire)
 
         made = call("create_record", {"title": "Tern"})["structuredContent"]
         assert call("read_record", {"record_id": made["id"]})["structuredContent"] == made  # create then read works
@@ -388,6 +395,20 @@ def test_records_lost_on_update(tmp_path: Path) -> None:
         assert updated["id"] == made["id"] and updated["version"] == 2
         # The planted defect: the id update_record just returned is refused (isError, MCP server/tools).
         assert call("read_record", {"record_id": updated["id"]})["isError"] is True
+
+
+def test_closes_twice(tmp_path: Path) -> None:
+    with started(tmp_path, script("closes_twice")) as wire:
+        wire.handshake()
+
+        call = _tool_caller(wire)
+
+        made = call("open_ticket", {"title": "Buoy"})["structuredContent"]
+        assert call("close_ticket", {"ticket_id": made["id"]})["structuredContent"]["state"] == "closed"
+        # The planted defect: close_ticket is annotated idempotentHint (MCP 2025-03-26 ToolAnnotations), yet
+        # the same call again is refused (isError, MCP server/tools error handling).
+        assert call("close_ticket", {"ticket_id": made["id"]})["isError"] is True
+        assert call("read_ticket", {"ticket_id": made["id"]})["structuredContent"]["state"] == "closed"
 
 
 def test_hangs_on_call(tmp_path: Path) -> None:

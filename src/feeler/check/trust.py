@@ -98,7 +98,7 @@ def failure_as_success(ctx: CallContext) -> Iterator[Problem]:
             reason = failure_reason(text)
             if reason:
                 yield Problem(
-                    f"a success result reads as a failure ({reason!r}): {text.strip()[:160]!r}; report failures "
+                    f"a success result reads as a failure ({reason!r}): {text.strip()!r}; report failures "
                     "with isError: true so that clients and models can tell",
                     error_class="reads-as-failure",
                 )
