@@ -115,6 +115,13 @@ def demo_http_url() -> Iterator[str]:
         yield url
 
 
+@pytest.fixture(scope="module")
+def reference_http_url() -> Iterator[str]:
+    """tests/servers/clean_reference.py over Streamable HTTP on 127.0.0.1 (one subprocess per test module)."""
+    with http_server([PY, str(SERVERS / "clean_reference.py"), "--http", "--port", "0"]) as url:
+        yield url
+
+
 # -- stdio test servers ----------------------------------------------------------------------------
 @pytest.fixture(scope="session")
 def server_target() -> Callable[..., Target]:

@@ -117,6 +117,8 @@ def run(argv: Sequence[str] | None = None) -> int:
     except click.ClickException as exc:
         exc.show()
         return EXIT_USAGE
+    except SystemExit as exc:  # a command that ends with its exit code (diff, approve)
+        return exc.code if isinstance(exc.code, int) else (EXIT_OK if exc.code is None else EXIT_USAGE)
     except FeelerError as exc:
         click.echo(f"feeler: {exc}", err=True)
         return EXIT_USAGE

@@ -89,7 +89,7 @@ def approve(root: str | None, name: str | None, outputs_file: str | None, record
     except FeelerError as exc:
         raise click.ClickException(str(exc)) from exc
     if result.status == "refused":
-        raise SystemExit(1)
+        raise SystemExit(1)  # the exit code also when run as a plain click command
 
 
 def _capture(opts: Any, record: bool, tools: list[str], per_tool: int) -> tuple[Any, list[dict[str, Any]] | None]:

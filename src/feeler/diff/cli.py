@@ -55,7 +55,20 @@ def load_side(spec: str, *, timeout: float = 30.0, config: Any = None) -> tuple[
     return capture_catalog(target, timeout=timeout, revision=revision), target.name
 
 
-@click.command("diff")
+_TWO_SIDES = ("a command after `--` cannot name two sides: name each in [tool.feeler] targets or quote each "
+              "command line ('python old_server.py')")
+
+
+class _TwoSides(click.Command):
+    """``feeler diff``: refuses ``--`` before parsing (after it, every word would be one side's)."""
+
+    def parse_args(self, ctx: click.Context, args: list[str]) -> list[str]:
+        if "--" in args:
+            raise click.UsageError(f"diff compares two sides, OLD and NEW; {_TWO_SIDES}", ctx)
+        return super().parse_args(ctx, args)
+
+
+@click.command("diff", cls=_TwoSides)
 @click.argument("sides", nargs=-1, required=True, metavar="OLD NEW")
 @click.option("--format", "fmt", type=click.Choice(["text", "markdown", "json"]), default="text",
               show_default=True, help="Report format; markdown suits a pull-request comment or CI summary.")
@@ -76,11 +89,7 @@ def diff(sides: tuple[str, ...], fmt: str, samples: int, timeout: float, summary
     from feeler.diff.report import render
 
     if len(sides) != 2:
-        raise click.UsageError(
-            f"diff compares two sides, OLD and NEW; got {len(sides)} ({' '.join(sides)}). A command after `--` "
-            "cannot name two sides: name each in [tool.feeler] targets or quote each command line "
-            "('python old_server.py')"
-        )
+        raise click.UsageError(f"diff compares two sides, OLD and NEW; got {len(sides)} ({' '.join(sides)}); {_TWO_SIDES}")
     old, new = sides
     try:
         old_cat, old_label = load_side(old, timeout=timeout)
@@ -96,4 +105,4 @@ def diff(sides: tuple[str, ...], fmt: str, samples: int, timeout: float, summary
                 fh.write(render(report, "markdown"))
         except OSError as exc:  # a summary is a nicety: never turn it into a failed diff
             click.echo(f"feeler diff: could not write the summary to {target}: {exc}", err=True)
-    raise SystemExit(report.exit_code)
+    raise SystemExit(report.exit_code)  # the exit code also when run as a plain click command
