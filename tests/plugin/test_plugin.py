@@ -6,6 +6,9 @@ reference server (built with the official SDK) must fail none; -k, -x, -n 2 and 
 
 from __future__ import annotations
 
+import re
+import shlex
+import subprocess
 import sys
 import xml.etree.ElementTree as ET
 from pathlib import Path
@@ -130,6 +133,18 @@ def test_catalog_item_fails_on_drift_and_approve_writes(pytester: pytest.Pyteste
     result = pytester.runpytest_subprocess("-p", "no:cacheprovider", "-q", "-k", "catalog", "--feeler-approve")
     result.assert_outcomes(passed=1)
     assert (folder / "catalog.json").read_text(encoding="utf-8") != approved
+    result = pytester.runpytest_subprocess("-p", "no:cacheprovider", "-q", "-k", "catalog")
+    result.assert_outcomes(passed=1)
+    # The drift message's own command approves as printed too (run from the project folder).
+    (folder / "catalog.json").write_text(approved, encoding="utf-8")
+    result = pytester.runpytest_subprocess("-p", "no:cacheprovider", "-q", "-k", "catalog")
+    command = re.search(r"approve it with `([^`]+)`", "\n".join(result.outlines))
+    assert command, result.outlines
+    argv = shlex.split(command.group(1))
+    assert argv[:2] == ["feeler", "approve"] and argv[-1] == "demo"
+    done = subprocess.run([sys.executable, "-m", "feeler.cli", *argv[1:]], cwd=pytester.path, capture_output=True,
+                          text=True, timeout=180)
+    assert done.returncode == 0, done.stdout + done.stderr
     result = pytester.runpytest_subprocess("-p", "no:cacheprovider", "-q", "-k", "catalog")
     result.assert_outcomes(passed=1)
 
