@@ -126,12 +126,13 @@ def test_an_unknown_name_lists_the_known_ones(project: Path) -> None:
     assert "'reff' is not a target name (known: ref)" in err
 
 
-def test_env_given_on_the_command_line_is_merged_into_a_named_target(project: Path) -> None:
-    # The configured env stays, the command line adds to it (README, "Naming a server").
+def _env_target(project: Path, also_missing: str, message: str) -> None:
+    """Target ``envref``: the reference server behind a script that exits with *message* unless NEEDED=yes
+    (configured) and *also_missing* is false."""
     (project / "needs_env.py").write_text(
         "import os, runpy, sys\n"
-        "if os.environ.get('NEEDED') != 'yes' or os.environ.get('OTHER') != '1':\n"
-        "    sys.exit('NEEDED=yes and OTHER=1 must both be set')\n"
+        f"if os.environ.get('NEEDED') != 'yes' or {also_missing}:\n"
+        f"    sys.exit({message!r})\n"
         f"runpy.run_path({json.dumps(str(REFERENCE))}, run_name='__main__')\n",
         encoding="utf-8",
     )
@@ -140,6 +141,11 @@ def test_env_given_on_the_command_line_is_merged_into_a_named_target(project: Pa
         f"[{json.dumps(PY)}, 'needs_env.py'], env = {{ NEEDED = 'yes' }} }} }}\n",
         encoding="utf-8",
     )
+
+
+def test_env_given_on_the_command_line_is_merged_into_a_named_target(project: Path) -> None:
+    # The configured env stays, the command line adds to it (README, "Naming a server").
+    _env_target(project, "os.environ.get('OTHER') != '1'", "NEEDED=yes and OTHER=1 must both be set")
     code, _, err = _cli("catalog", "envref")
     assert code == 2 and "OTHER=1 must both be set" in err
     code, out, err = _cli("catalog", "--env", "OTHER=1", "envref")
@@ -175,3 +181,16 @@ def test_module_attribute_takes_cwd_and_env(project: Path) -> None:
     assert code == 0, err
     assert {t["name"] for t in json.loads(out)["tools"]} >= {"convert_length"}
     assert "FEELER_FORMS_MARK" not in os.environ and os.getcwd() == str(project)
+
+
+def test_replay_uses_the_configured_env_of_the_named_target(project: Path) -> None:
+    # The replay file keeps env names only (never values); the named target gives the values again.
+    _env_target(project, "False", "NEEDED must be yes")
+    code, out, err = _cli("check", "--samples", "1", "--chain-runs", "0", "--format", "json", "envref")
+    assert code == 0, err
+    replay = next(f["replay"] for f in json.loads(out)["findings"] if f["replay"])
+    data = json.loads(Path(replay).read_text(encoding="utf-8"))
+    assert data["target"]["name"] == "envref" and data["target"]["envNames"] == ["NEEDED"]
+    assert "yes" not in json.dumps(data["target"])
+    code, out, err = _cli("replay", replay)
+    assert code == 1 and "reproduced:" in out, out + err

@@ -125,3 +125,30 @@ def test_interrupted_campaign_continues(several: Target, tmp_path: Path) -> None
     found = {f.check + "|" + str(f.tool) + "|" + f.error_class for f in report.findings}
     assert before_findings <= found
     assert json.loads((folder / "state.json").read_text(encoding="utf-8"))["done"] is True
+
+
+def test_a_campaign_that_cannot_start_leaves_nothing_behind(tmp_path: Path, monkeypatch: pytest.MonkeyPatch) -> None:
+    # A server that exits at once: the campaign fails (exit 2) and leaves no empty state to "continue" later.
+    from feeler.cli import run
+
+    monkeypatch.chdir(tmp_path)
+    code = run(["campaign", "--budget", "5s", "--", sys.executable, "-c", "import sys; sys.exit(3)"])
+    assert code == 2
+    assert not (tmp_path / ".feeler").exists()
+
+
+def test_former_campaign_options_work_with_a_notice(several: Target, tmp_path: Path,
+                                                    capsys: pytest.CaptureFixture[str]) -> None:
+    # --seed is --sample-seed and --go-examples is --samples (DEVELOPERS.md, "Vocabulary"), for one release.
+    from feeler import _deprecated
+    from feeler.cli import run
+
+    _deprecated._shown.clear()
+    code = run(["campaign", "--budget", "2s", "--seed", "4", "--go-examples", "1", "--example-db", "none",
+                "--folder", str(tmp_path / "c"), "--replay-dir", str(tmp_path / "r"), "--", *several.command])
+    err = capsys.readouterr().err
+    assert code in (0, 1), err
+    assert "feeler: --seed is deprecated and will be removed in the next release; use --sample-seed" in err
+    assert "feeler: --go-examples is deprecated and will be removed in the next release; use --samples" in err
+    state = json.loads((tmp_path / "c" / "state.json").read_text(encoding="utf-8"))
+    assert state["tools"]
