@@ -98,8 +98,9 @@ def _record(target: str, timeout: float, tools: list[str], per_tool: int) -> tup
         catalog = capture(session)
         from feeler.config import load_config
         from feeler.redact import redactor_for
+        from feeler.target import Target
 
         outputs = record_outputs(session, catalog, tools=tools, per_tool=per_tool,
-                                 redactor=redactor_for(None, load_config().values))
+                                 redactor=redactor_for(Target.parse(target), load_config().values))
     click.echo(f"feeler approve: recorded {len(outputs)} output(s) of {len({r['tool'] for r in outputs})} tool(s)")
     return catalog, target, outputs

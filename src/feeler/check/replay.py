@@ -118,10 +118,12 @@ class _Case:
 def replay(data: dict[str, Any], *, timeout: float = 30.0, target: Target | None = None) -> ReplayOutcome:
     """Send the recorded request again; say whether the same check finds the same problem."""
     from feeler.check.registry import CHECKS, CallContext, CheckSettings
-    from feeler.redact import redactor_for
+    from feeler.config import load_config
     from feeler.connect import capture, open_session
+    from feeler.redact import redactor_for
 
     tgt = target or Target.from_json(data["target"])
+    secrets = redactor_for(tgt, load_config().values).values  # secret_env/secrets of [tool.feeler] too
     finding = data["finding"]
     check = CHECKS.get(finding.get("check", ""))
     session = open_session(tgt, revision=data.get("protocolVersion"), timeout=timeout)
@@ -131,7 +133,7 @@ def replay(data: dict[str, Any], *, timeout: float = 30.0, target: Target | None
             from feeler.world.chains import replay_sequence
 
             def make_ctx(chain_tool: Tool | None) -> CallContext:
-                settings = CheckSettings(secrets=redactor_for(tgt).values)
+                settings = CheckSettings(secrets=secrets)
                 return CallContext("chain", chain_tool, str(session.revision), str(session.era), settings)
 
             seen = replay_sequence(session, data, make_ctx, catalog, timeout)
@@ -160,7 +162,7 @@ def replay(data: dict[str, Any], *, timeout: float = 30.0, target: Target | None
         settings = CheckSettings(
             strict_go=bool(stored.get("strictGo", False)),
             latency_budget={str(k): float(v) for k, v in (stored.get("latencyBudget") or {}).items()},
-            secrets=redactor_for(tgt).values,
+            secrets=secrets,
         )
         ctx = CallContext(ctx_kind, tool, str(session.revision), str(session.era), settings, case=case)
         if finding.get("check") == "bounds_honoured":
