@@ -115,3 +115,34 @@ def test_path_the_user_gave_is_not_a_leak(tmp_path: Path) -> None:
     elsewhere = run_checks(hidden, ["no_leaks"], samples=0, settings=CheckSettings())
     leaks = [f for f in elsewhere.findings if f.error_class == "absolute-path"]
     assert leaks and "/srv/quay/data" in leaks[0].message
+
+
+def test_resolved_form_of_a_path_sent_is_not_a_leak(tmp_path: Path) -> None:
+    """An SDK server that resolves its `path` argument under its notes folder and names the resolved path in
+    its refusals ("<folder>/.. is outside the notes folder", "no note at <folder>/0"): with the folder given
+    (working folder, command line) nothing leaks, whatever value was sent ("..", "../..", a name with a
+    space, one character); with the folder hidden in the environment, the folder leaks (common practice:
+    OWASP error handling; MCP 2025-11-25 server/tools, Security)."""
+    from feeler.check.runner import RunOptions, Runner
+    from feeler.world.known import known_pool
+
+    notes = tmp_path / "notes"
+    notes.mkdir()
+    (notes / "tide log.txt").write_text("high water 06:12\n", encoding="utf-8")
+    server = str(SERVERS / "resolves_paths.py")
+    sent = {"path": ["..", "../..", "tide log.txt", "no such note.txt", "0", "", "."]}
+
+    def leaks(target: Target, every_value: bool = True) -> list[str]:
+        options = RunOptions(checks=["no_leaks"], samples=20, probes=False, replay_dir=None, values=known_pool((), sent))
+        runner = Runner(target, options, session_options={"timeout": 60})
+        seen: set[str] = set()
+        runner.on_call = lambda _tool, case, _ctx, _failed: seen.add(json.dumps(case.arguments))
+        report = runner.run()
+        if every_value:  # every value was sent (known values, sample seed 0)
+            assert {json.dumps({"path": v}) for v in sent["path"]} <= seen
+        return [f.message for f in report.findings if f.error_class == "absolute-path"]
+
+    assert leaks(Target(kind="stdio", command=(PY, server), cwd=str(notes))) == []
+    assert leaks(Target(kind="stdio", command=(PY, server, str(notes)))) == []
+    hidden = leaks(Target(kind="stdio", command=(PY, server), env={"NOTES_ROOT": str(notes)}), every_value=False)
+    assert hidden and str(tmp_path) in hidden[0]
