@@ -146,3 +146,18 @@ def test_resolved_form_of_a_path_sent_is_not_a_leak(tmp_path: Path) -> None:
     assert leaks(Target(kind="stdio", command=(PY, server, str(notes)))) == []
     hidden = leaks(Target(kind="stdio", command=(PY, server), env={"NOTES_ROOT": str(notes)}), every_value=False)
     assert hidden and str(tmp_path) in hidden[0]
+
+
+def test_a_tool_that_needs_tasks_is_not_called_and_says_why() -> None:
+    """A tool with execution.taskSupport "required" refuses plain calls (MCP 2025-11-25 server/tools, execution;
+    PROTOCOL.md section 11: -32601 without a task). feeler sends no task, so it does not call the tool and
+    says so, instead of a values hint or a gate that never opens."""
+    from check_helpers import faulty
+
+    report = run_checks(faulty("task-required"), ["go_enters", "gate_opens", "values_needed"], samples=3)
+    stats = report.tools["echo"]
+    assert stats.go_calls == 0 and stats.nogo_calls == 0
+    assert stats.skipped and "taskSupport: required" in stats.skipped
+    assert [f.check for f in report.findings] == []  # neither a values hint nor a gate that never opens
+    clean = run_checks(faulty("clean"), ["go_enters"], samples=3)
+    assert clean.tools["echo"].go_calls > 0 and not clean.tools["echo"].skipped

@@ -319,6 +319,9 @@ class Runner:
     def skip_reason(self, tool: Tool) -> str | None:
         if tool.destructive and not self.options.allow_destructive:
             return "annotated destructive (destructiveHint); pass --allow-destructive to call it"
+        if tool.task_support == "required":
+            return ("not tested here: it needs task-augmented calls (execution.taskSupport: required, MCP 2025-11-25 "
+                    "tasks) and feeler sends plain calls; its catalog entry is still audited")
         return None
 
     def run_tool(self, tool: Tool, kinds: tuple[str, ...] = CASE_KINDS_RUN) -> list[Finding]:
