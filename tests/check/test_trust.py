@@ -42,6 +42,27 @@ def test_fourteen_tools_same_probe_answer_is_one_finding() -> None:
         assert finding.to_json()["tools"] == finding.tools
 
 
+def test_fourteen_tools_with_every_catalog_check_give_few_findings() -> None:
+    """The same 14 tools under every catalog check and the probes: the parameter `hours` without a description
+    is one finding for the 14 tools (MCP 2025-11-25 server/tools: description), the numbered descriptions
+    ("Read tide gauge number 01 of the quay.") are a family told apart by their numbers, not 91 pairs of
+    near-duplicates, and the probes give one finding per malformed request."""
+    from feeler.check.registry import CHECKS
+    from fourteen_same_tools import NAMES
+
+    catalog_checks = [name for name, check in CHECKS.items() if "catalog" in check.applies_to]
+    report = run_checks(script("fourteen_same_tools.py"), ["probe_answer", *catalog_checks], probes=True, samples=0)
+    found = sorted((f.check, f.error_class, len(f.tools)) for f in report.findings)
+    print(f"\nfindings on 14 tools with {len(catalog_checks)} catalog checks and the probes: {len(found)}")
+    assert found == sorted([
+        ("descriptions", "parameters", len(NAMES)),
+        ("probe_answer", "arguments-array:accepted", len(NAMES)),
+        ("probe_answer", "arguments-string:accepted", len(NAMES)),
+        ("probe_answer", "arguments-null:accepted", len(NAMES)),
+        ("probe_answer", "null-id:accepted", 0),  # a server-wide probe (MCP basic: ids MUST NOT be null)
+    ])
+
+
 def _walk_files(root: Path) -> list[Path]:
     return [p for p in root.rglob("*") if p.is_file()]
 
