@@ -63,7 +63,10 @@ def diff(old: str, new: str, fmt: str, samples: int, timeout: float, summary_fil
         new_cat, new_label = load_side(new, timeout=timeout)
     except FeelerError as exc:
         raise click.UsageError(str(exc)) from exc
-    report = diff_catalogs(old_cat, new_cat, samples=samples, old_label=old_label, new_label=new_label)
+    from feeler.config import load_config
+
+    hosts = tuple(str(h) for h in load_config().get("allowed_hosts") or ())  # links to these are no finding
+    report = diff_catalogs(old_cat, new_cat, samples=samples, old_label=old_label, new_label=new_label, allowed_hosts=hosts)
     click.echo(render(report, fmt), nl=False)
     target = summary_file or (os.environ.get("GITHUB_STEP_SUMMARY") if fmt == "markdown" else None)
     if target:
