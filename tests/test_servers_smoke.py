@@ -695,3 +695,129 @@ def test_string_tool_entry(tmp_path: Path) -> None:
         wire.handshake()
         tools = tool_result(wire.call("tools/list"))["tools"]
         assert tools[0] == "lookup" and tools[1]["name"] == "echo"  # MCP schema: entries are Tool objects
+
+
+# --- trust, audit and authorization servers (issue 11) ---------------------------------------------
+
+
+def test_leaks_secrets(tmp_path: Path) -> None:
+    env = {"HARBOUR_API_TOKEN": "smoke-token-" + os.urandom(4).hex(), "HARBOUR_DSN": "pg://smoke:pw@127.0.0.1/db",
+           "HARBOUR_DATA": "/srv/quay/data"}
+    with started(tmp_path, script("leaks_secrets"), env=env) as wire:
+        wire.handshake()
+
+        def call(arguments: Any) -> dict[str, Any]:
+            return wire.call("tools/call", {"name": "lookup", "arguments": arguments})
+
+        # MCP 2025-11-25 server/tools (error handling): a tool error is an isError result; here it shows both secrets.
+        failed = tool_result(call({"key": "ab"}))
+        assert failed["isError"] is True
+        assert env["HARBOUR_API_TOKEN"] in failed["content"][0]["text"] and env["HARBOUR_DSN"] in failed["content"][0]["text"]
+        assert "/srv/quay/data/data/ab.db" in failed["content"][0]["text"]
+        # A success result with the data folder and the home folder in it.
+        listed = tool_result(call({"key": ""}))
+        assert "isError" not in listed and "/srv/quay/data/moorings.db" in listed["content"][0]["text"]
+        # JSON-RPC 2.0 section 5.1: invalid params are -32602; its message carries the secret too.
+        refused = call({"key": "toolong"})
+        assert refused["error"]["code"] == -32602 and env["HARBOUR_DSN"] in refused["error"]["message"]
+
+
+def test_fourteen_same_tools(tmp_path: Path) -> None:
+    sys.path.insert(0, str(SERVERS))
+    from fourteen_same_tools import NAMES
+
+    with started(tmp_path, script("fourteen_same_tools")) as wire:
+        wire.handshake()
+        assert [t["name"] for t in tool_result(wire.call("tools/list"))["tools"]] == NAMES
+        for name in (NAMES[0], NAMES[-1]):
+            # The shared defect: MCP 2025-11-25 server/tools wants arguments as an object; an array is accepted.
+            accepted = tool_result(wire.call("tools/call", {"name": name, "arguments": []}))
+            assert "isError" not in accepted
+            assert tool_result(wire.call("tools/call", {"name": name, "arguments": {"hours": 49}}))["isError"] is True
+            assert tool_result(wire.call("tools/call", {"name": name, "arguments": {"hours": 3}}))["content"][0]["text"] == "level 2.4 m over 3 h"
+
+
+def test_hides_failures(tmp_path: Path) -> None:
+    with started(tmp_path, script("hides_failures")) as wire:
+        wire.handshake()
+
+        def call(name: str, arguments: dict[str, Any]) -> dict[str, Any]:
+            return tool_result(wire.call("tools/call", {"name": name, "arguments": arguments}))
+
+        # The official SDK (mcp.server.mcpserver.tools.base.Tool.run): an unexpected exception becomes an isError
+        # result whose only text is "Error executing tool NAME".
+        crashed = call("find_berths", {"pattern": "["})
+        assert crashed["isError"] is True and crashed["content"][0]["text"] == "Error executing tool find_berths"
+        assert call("find_berths", {"pattern": "^N"})["content"][0]["text"] == "N-01, N-02"
+        # A failure returned as success (MCP 2025-11-25 server/tools: failures should be isError).
+        hidden = call("tide_log", {"day": 5})
+        assert hidden.get("isError") is not True and hidden["content"][0]["text"].startswith("Error: no such table")
+        assert call("tide_log", {"day": 2})["content"][0]["text"].startswith("day 2:")
+
+
+def test_sloppy_catalog(tmp_path: Path) -> None:
+    with started(tmp_path, script("sloppy_catalog")) as wire:
+        wire.handshake()
+        tools = tool_result(wire.call("tools/list"))["tools"]
+        names = [t["name"] for t in tools]
+        assert names.count("quote_stay") == 2  # MCP 2025-11-25 server/tools: names SHOULD be unique
+        nights = tools[0]["inputSchema"]["properties"]["nights"]
+        assert nights["ge"] == 1 and "minimum" not in nights  # JSON Schema 2020-12 Core 6.5: "ge" is no keyword
+        purge = next(t for t in tools if t["name"] == "purge_ledger")
+        assert purge["annotations"] == {"readOnlyHint": True, "destructiveHint": True}  # contradictory ToolAnnotations
+        # JSON Schema 2020-12 meta-schema (jsonschema): "metres" is not a type.
+        depth = next(t for t in tools if t["name"] == "berth_depth")
+        assert not Draft202012Validator(Draft202012Validator.META_SCHEMA).is_valid(depth["outputSchema"])
+        assert "isError" not in tool_result(wire.call("tools/call", {"name": "fuel_price", "arguments": {}}))
+
+
+def test_poisoned_catalog(tmp_path: Path) -> None:
+    with started(tmp_path, script("poisoned_catalog")) as wire:
+        wire.handshake()
+        tools = {t["name"]: t for t in tool_result(wire.call("tools/list"))["tools"]}
+        assert "read ~/.ssh/id_rsa" in tools["tide_help"]["description"]  # aimed at the model (server/tools, Security)
+        assert "~" not in tools["tide_now"]["description"]
+        assert tool_result(wire.call("tools/call", {"name": "tide_now", "arguments": {}}))["content"][0]["text"] == "2.4 m, rising"
+
+
+def test_resolves_paths(tmp_path: Path) -> None:
+    notes = tmp_path / "notes"
+    notes.mkdir()
+    (notes / "tide log.txt").write_text("high water 06:12\n", encoding="utf-8")
+    with started(tmp_path, script("resolves_paths"), str(notes)) as wire:
+        wire.handshake()
+
+        def call(path: str) -> dict[str, Any]:
+            return tool_result(wire.call("tools/call", {"name": "read_note", "arguments": {"path": path}}))
+
+        assert call("tide log.txt")["content"][0]["text"] == "high water 06:12\n"
+        # MCP 2025-11-25 server/tools (error handling): refusals are isError results naming the resolved path.
+        outside = call("..")
+        assert outside["isError"] is True and outside["content"][0]["text"] == f"{tmp_path} is outside the notes folder {notes}"
+        missing = call("0")
+        assert missing["isError"] is True and missing["content"][0]["text"] == f"no note at {notes / '0'}"
+
+
+def test_guarded_http(tmp_path: Path) -> None:
+    env = {"FEELER_MAIN_TOKEN": "main-" + os.urandom(6).hex(), "FEELER_LOW_TOKEN": "low-" + os.urandom(6).hex()}
+    body = {"jsonrpc": "2.0", "id": 1, "method": "initialize", "params": INIT_2025}
+    with started(tmp_path, script("guarded_http"), "--port", "0", env=env) as wire:
+        url = ready_url(wire)
+        # RFC 6750 section 3 and RFC 9728 section 5.1: 401 with a Bearer challenge naming the resource metadata.
+        refused = post(url, body)
+        assert refused.status_code == 401
+        challenge = refused.headers["www-authenticate"]
+        assert challenge.startswith("Bearer") and 'resource_metadata="' in challenge
+        metadata = httpx2.get(challenge.split('resource_metadata="')[1].split('"')[0], timeout=TIMEOUT)
+        # RFC 9728 section 2: the resource and at least one authorization server.
+        assert metadata.status_code == 200 and metadata.json()["resource"] == url and metadata.json()["authorization_servers"]
+        assert post(url, body, {"Authorization": "Bearer " + env["FEELER_MAIN_TOKEN"]}).status_code == 200
+        # MCP 2025-11-25 basic/transports (Security): a foreign Origin gets 403.
+        foreign = post(url, body, {"Authorization": "Bearer " + env["FEELER_MAIN_TOKEN"], "Origin": "http://elsewhere.invalid"})
+        assert foreign.status_code == 403
+    with started(tmp_path, script("guarded_http"), "--port", "0", "--fault", "no-metadata", env=env) as wire:
+        url = ready_url(wire)
+        bare = post(url, body)
+        assert bare.status_code == 401 and bare.headers["www-authenticate"] == "Bearer"
+        well_known = url.replace("/mcp", "/.well-known/oauth-protected-resource/mcp")
+        assert httpx2.get(well_known, timeout=TIMEOUT).status_code == 404

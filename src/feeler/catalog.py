@@ -85,6 +85,14 @@ class Tool:
     def annotated(self) -> bool:
         return bool(self.annotations)
 
+    @property
+    def task_support(self) -> str:
+        """``execution.taskSupport``: ``forbidden`` (the default), ``optional`` or ``required`` (MCP 2025-11-25
+        server/tools; a ``required`` tool answers a call without a task with an error)."""
+        execution = self.raw.get("execution")
+        value = execution.get("taskSupport") if isinstance(execution, Mapping) else None
+        return value if isinstance(value, str) else "forbidden"
+
 
 def _sorted(items: list[Any], key: str) -> list[Any]:
     return sorted(items, key=lambda item: str(item.get(key, "")) if isinstance(item, Mapping) else "")

@@ -159,6 +159,7 @@ class FeelerPlugin:
 
     # -- runners ----------------------------------------------------------------------------------
     def options(self) -> Any:
+        from feeler.check.cli import audit_settings
         from feeler.check.registry import CheckSettings
         from feeler.check.runner import RunOptions
         from feeler.depth import samples_for
@@ -179,6 +180,7 @@ class FeelerPlugin:
             settings=CheckSettings(
                 strict_go=config.getoption(OPT_STRICT_GO) or bool(cfg.get("strict_go", False)),
                 latency_budget={str(k): float(v) for k, v in (cfg.get("budgets") or {}).items()},
+                **audit_settings(cfg),
             ),
             replay_dir=self.replay_dir(),
             learn=bool(cfg.get("learn", True)),
@@ -191,11 +193,14 @@ class FeelerPlugin:
 
     def runner(self, name: str) -> Runner:
         from feeler.check.runner import Runner
+        from feeler.redact import redactor_for
 
         if name not in self.runners:
             revision = self.config.getoption(OPT_PROTOCOL_VERSION) or self.cfg.get("protocol_version")
             session_options = {"revision": revision, "timeout": float(self.cfg.get("timeout", 30.0))}
-            self.runners[name] = Runner(self.targets[name], self.options(), session_options=session_options)
+            options = self.options()
+            options.redactor = redactor_for(self.targets[name], self.cfg.values)  # secret_env/secrets of [tool.feeler]
+            self.runners[name] = Runner(self.targets[name], options, session_options=session_options)
         return self.runners[name]
 
     def close_all(self) -> None:

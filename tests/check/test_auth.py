@@ -27,7 +27,7 @@ ENV = {"FEELER_MAIN_TOKEN": MAIN, "FEELER_LOW_TOKEN": LOW}
 def servers(tmp_path_factory: pytest.TempPathFactory) -> Iterator[dict[str | None, str]]:
     """One guarded server per fault (and one without), started once for the module, ended by pid."""
     tmp = tmp_path_factory.mktemp("auth")
-    faults = [None, "no-resource-metadata", "no-auth-servers", "any-token", "no-origin-check", "purge-for-all", "open"]
+    faults = [None, "no-resource-metadata", "no-metadata", "no-auth-servers", "any-token", "no-origin-check", "purge-for-all", "open"]
     stack = [started(tmp, str(SERVERS / "guarded_http.py"), "--port", "0", *(["--fault", f] if f else []), env=ENV) for f in faults]
     wires = []
     try:
@@ -55,8 +55,21 @@ def test_a_guarded_server_passes_every_check(servers: dict[str | None, str], mon
     assert (code, found) == (0, set())
 
 
+def test_challenge_without_resource_metadata(servers: dict[str | None, str], monkeypatch: pytest.MonkeyPatch) -> None:
+    """MCP 2025-06-18 basic/authorization: the 401 MUST carry resource_metadata (RFC 9728 section 5.1); since
+    2025-11-25 the parameter OR the well-known URI (RFC 9728 section 3.1) is enough. So without the parameter
+    but with the well-known metadata it is a warning (exit 0); with neither, an error and no metadata found."""
+    code, found, data = _auth(servers["no-resource-metadata"], monkeypatch)
+    (challenge,) = [f for f in data["findings"] if f["check"] == "auth_challenge"]
+    assert (code, found) == (0, {("auth_challenge", "no-resource-metadata")}) and challenge["severity"] == "warning"
+    assert "/.well-known/oauth-protected-resource/mcp" in challenge["message"]
+    code, found, data = _auth(servers["no-metadata"], monkeypatch)
+    (challenge,) = [f for f in data["findings"] if f["check"] == "auth_challenge"]
+    assert code == 1 and challenge["severity"] == "error"
+    assert found == {("auth_challenge", "no-resource-metadata"), ("auth_metadata", "missing")}
+
+
 @pytest.mark.parametrize(("fault", "expected"), [
-    ("no-resource-metadata", ("auth_challenge", "no-resource-metadata")),  # RFC 9728 5.1; MCP 2025-06-18 MUST
     ("no-auth-servers", ("auth_metadata", "authorization-servers")),  # RFC 9728 2; MCP basic/authorization MUST
     ("any-token", ("auth_invalid_token", "status")),  # RFC 6750 3.1
     ("no-origin-check", ("auth_origin", "status")),  # MCP 2025-11-25 basic/transports, Security
@@ -70,8 +83,6 @@ def test_each_check_fails_on_its_fault(servers: dict[str | None, str], monkeypat
     if fault == "purge-for-all":
         (finding,) = [f for f in data["findings"] if f["check"] == "auth_visibility"]
         assert finding["tools"] == ["purge_ledger"]
-    if fault == "no-resource-metadata":
-        assert ("auth_metadata", "missing") not in found  # the well-known URL is found without the hint
 
 
 def test_only_loopback(monkeypatch: pytest.MonkeyPatch) -> None:

@@ -4,7 +4,8 @@ one authorization rule.
 Tokens come from the environment: FEELER_MAIN_TOKEN (sees every tool) and FEELER_LOW_TOKEN (sees the
 read-only tool only). Without --fault it follows RFC 6750 section 3 (401 + ``WWW-Authenticate: Bearer``
 with ``resource_metadata``), RFC 9728 (metadata at /.well-known/oauth-protected-resource/mcp) and MCP
-2025-11-25 basic/transports (foreign Origin -> 403). Faults: no-resource-metadata, no-auth-servers,
+2025-11-25 basic/transports (foreign Origin -> 403). Faults: no-resource-metadata (the well-known metadata
+stays), no-metadata (neither the parameter nor the well-known metadata), no-auth-servers,
 any-token, no-origin-check, purge-for-all, open. ``python tests/servers/guarded_http.py --port 0
 [--fault F]`` prints ``ready on http://127.0.0.1:N/mcp``.
 """
@@ -43,7 +44,7 @@ class Guarded:
         headers = dict(scope["headers"])
         host = headers.get(b"host", b"127.0.0.1").decode()
         base = f"http://{host}"
-        if scope["method"] == "GET" and scope["path"] == "/.well-known/oauth-protected-resource/mcp":
+        if scope["method"] == "GET" and scope["path"] == "/.well-known/oauth-protected-resource/mcp" and self.fault != "no-metadata":
             meta: dict[str, Any] = {"resource": f"{base}/mcp", "authorization_servers": [f"{base}/as"]}
             if self.fault == "no-auth-servers":
                 del meta["authorization_servers"]
@@ -55,7 +56,7 @@ class Guarded:
             return await self.reply(send, 403, {"error": "forbidden origin"})
         role = self.role(headers.get(b"authorization"))
         if role is None:
-            challenge = "Bearer" if self.fault == "no-resource-metadata" else f'Bearer resource_metadata="{base}/.well-known/oauth-protected-resource/mcp"'
+            challenge = "Bearer" if self.fault in ("no-resource-metadata", "no-metadata") else f'Bearer resource_metadata="{base}/.well-known/oauth-protected-resource/mcp"'
             if headers.get(b"authorization") is not None:
                 challenge += ', error="invalid_token"'
             return await self.reply(send, 401, {"error": "unauthorized"}, [(b"www-authenticate", challenge.encode())])
@@ -104,7 +105,7 @@ class Guarded:
 def main() -> None:
     parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     parser.add_argument("--port", type=int, default=0)
-    parser.add_argument("--fault", choices=["no-resource-metadata", "no-auth-servers", "any-token", "no-origin-check", "purge-for-all", "open"])
+    parser.add_argument("--fault", choices=["no-resource-metadata", "no-metadata", "no-auth-servers", "any-token", "no-origin-check", "purge-for-all", "open"])
     options = parser.parse_args()
     from feeler.demo._serve import serve_http
 

@@ -1,5 +1,6 @@
 """Advertises a sloppy catalog: mistaken keywords (ge, le, maxlength, regex, required: true), a duplicate
-name, missing descriptions, contradictory annotations, a non-object outputSchema, near-duplicate tools."""
+name, missing descriptions, contradictory annotations, a non-object outputSchema, an outputSchema that breaks
+the meta-schema, near-duplicate tools."""
 
 from __future__ import annotations
 
@@ -22,6 +23,8 @@ TOOLS: list[dict[str, Any]] = [
      "annotations": {"readOnlyHint": True, "destructiveHint": True}, "inputSchema": {"type": OBJ}},
     {"name": "tide_level", "inputSchema": {"type": OBJ, "properties": {"gauge": {"type": "integer"}}},
      "outputSchema": {"type": "number"}},
+    {"name": "berth_depth", "description": "The depth of one berth at low water, in metres.", "inputSchema": {"type": OBJ},
+     "outputSchema": {"type": OBJ, "properties": {"depth": {"type": "metres"}}}},
     {"name": "fuel_price", "description": "Return the price of one litre of diesel at the north pontoon today.",
      "inputSchema": {"type": OBJ}},
     {"name": "fuel_price_north", "description": "Return the price of one litre of diesel at the north pontoon, today.",

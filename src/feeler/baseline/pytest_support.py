@@ -70,7 +70,8 @@ def check_catalog_against_baseline(
     except BaselineError as exc:
         return [f"the approved baseline cannot be used: {exc}"]
     problems: list[str] = []
-    report = diff_catalogs(approved, catalog, samples=5, old_label="baseline", new_label="live")
+    report = diff_catalogs(approved, catalog, samples=5, old_label="baseline", new_label="live",
+                           allowed_hosts=tuple(str(h) for h in cfg.get("allowed_hosts") or ()))
     if report.changes:
         breaking = [c for c in report.changes if c.is_breaking]
         problems += [

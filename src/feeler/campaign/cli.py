@@ -85,7 +85,10 @@ def campaign(**kwargs: Any) -> int:
     """
     from feeler.campaign.database import DEFAULT_EXAMPLE_DB, open_example_db
     from feeler.campaign.engine import Campaign, CampaignOptions, parse_duration, parse_shard
+    from feeler.check.cli import audit_settings
+    from feeler.check.registry import CheckSettings
     from feeler.check.runner import RunOptions, Runner
+    from feeler.redact import redactor_for
     from feeler.report import build_report
     from feeler.report.document import now_iso
 
@@ -100,9 +103,11 @@ def campaign(**kwargs: Any) -> int:
         kwargs["seed"] = 0
     slug = opts.target.slug() + (f"-shard-{shard[0]}-of-{shard[1]}" if shard else "")
     folder = kwargs["folder"] or os.path.join(".feeler", "campaigns", slug)
+    config = opts.config  # secret_env/secrets and the audit thresholds hold for campaigns too
     options = RunOptions(
         sample_seed=kwargs["seed"], samples=kwargs["samples"], include=list(kwargs["include"]),
         exclude=list(kwargs["exclude"]), allow_destructive=kwargs["allow_destructive"], replay_dir=kwargs["replay_dir"],
+        settings=CheckSettings(**audit_settings(config)), redactor=redactor_for(opts.target, config.values),
     )  # fmt: skip
     camp_options = CampaignOptions(
         budget=budget, folder=folder, shard=shard, samples=kwargs["samples"], max_samples=kwargs["max_samples"],

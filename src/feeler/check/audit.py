@@ -17,7 +17,7 @@ from typing import Any
 
 from feeler.check.registry import CallContext, Problem, register
 
-__all__ = ["MISTAKEN_KEYWORDS", "estimate_tokens", "schema_places"]
+__all__ = ["MISTAKEN_KEYWORDS", "estimate_tokens", "near_duplicate_groups", "schema_places"]
 
 #: Keywords that are not JSON Schema (2020-12) but are often written for one that is, mostly by schema
 #: generators and by hand (common practice: pydantic/Field, OpenAPI and form libraries use these names).
@@ -192,24 +192,74 @@ def catalog_size(ctx: CallContext) -> Iterator[Problem]:
 
 
 _WORDS = re.compile(r"\W+")
-#: Descriptions this similar (difflib ratio) read as the same tool to a model (tuned on our corpus).
+#: Descriptions this similar (difflib ratio) read as the same tool to a model (tuned on our corpus,
+#: ``tests/check/corpus/descriptions.json``).
 NEAR_DUPLICATE = 0.9
+_NAME_PARTS = re.compile(r"[A-Z]?[a-z]+|[A-Z]+(?![a-z])|\d+")
+
+
+def _name_words(name: str) -> set[str]:
+    """The words of a tool name (``fuel_price_north``, ``getTideLevel`` -> fuel, price, north / get, tide, level)."""
+    return {w.lower() for w in _NAME_PARTS.findall(name)}
+
+
+def _distinguished(name_a: str, words_a: list[str], name_b: str, words_b: list[str]) -> bool:
+    """The descriptions differ in a number or an identifier (a token with a digit or ``_``), or in a word that
+    also tells the tool names apart (``weather_north`` / ``weather_south``): the author put the distinction
+    where a model reads it, so the pair is a family of tools, not two tools a model cannot tell apart."""
+    differing: set[str] = set()
+    for tag, i1, i2, j1, j2 in SequenceMatcher(None, words_a, words_b, autojunk=False).get_opcodes():
+        if tag != "equal":
+            differing.update(words_a[i1:i2] + words_b[j1:j2])
+    if any(any(c.isdigit() for c in w) or "_" in w for w in differing):
+        return True
+    return bool(differing & (_name_words(name_a) ^ _name_words(name_b)))
+
+
+def near_duplicate_groups(tools: list[tuple[str, str]]) -> list[tuple[list[str], float]]:
+    """Groups of tools (by name) whose descriptions a model cannot tell apart, with the lowest similarity
+    inside the group: pairs at least :data:`NEAR_DUPLICATE` similar and not :func:`_distinguished`, joined
+    when they share a tool. *tools* is ``(name, description)``; texts under 20 characters are left out."""
+    texts = []
+    for name, description in tools:
+        text = _WORDS.sub(" ", description or "").strip().lower()
+        if len(text) >= 20:
+            texts.append((name, text, text.split()))
+    parent = {name: name for name, _, _ in texts}
+    lowest: dict[str, float] = {}
+
+    def root(name: str) -> str:
+        while parent[name] != name:
+            parent[name] = parent[parent[name]]
+            name = parent[name]
+        return name
+
+    for i, (name_a, a, words_a) in enumerate(texts):
+        for name_b, b, words_b in texts[i + 1:]:
+            matcher = SequenceMatcher(None, a, b, autojunk=False)
+            if not (matcher.real_quick_ratio() >= NEAR_DUPLICATE and matcher.quick_ratio() >= NEAR_DUPLICATE):
+                continue
+            ratio = matcher.ratio()
+            if ratio < NEAR_DUPLICATE or _distinguished(name_a, words_a, name_b, words_b):
+                continue
+            ra, rb = root(name_a), root(name_b)
+            parent[rb] = ra
+            lowest[ra] = min(ratio, lowest.get(ra, 1.0), lowest.pop(rb, 1.0))
+    groups: dict[str, list[str]] = {}
+    for name, _, _ in texts:
+        groups.setdefault(root(name), []).append(name)
+    return sorted((sorted(set(names)), lowest[key]) for key, names in groups.items() if len(set(names)) > 1 and key in lowest)
 
 
 @register("distinct_descriptions", applies_to=("catalog",), severity="warning", reference="common practice: a model tells tools apart by their descriptions")
 def distinct_descriptions(ctx: CallContext) -> Iterator[Problem]:
-    """No two tools have the same or nearly the same description."""
+    """No two tools have the same or nearly the same description (one finding per group of such tools;
+    descriptions that differ in a number, an identifier or a word of the tools' names are a family, not
+    near-duplicates)."""
     if ctx.tool is not None or ctx.catalog is None:
         return
-    texts = []
-    for raw in ctx.catalog.tools[:300]:  # bounded: pairs of at most 300 tools
-        text = _WORDS.sub(" ", str(raw.get("description") or "")).strip().lower() if isinstance(raw, dict) else ""
-        if len(text) >= 20:
-            texts.append((str(raw.get("name")), text))
-    for i, (name_a, a) in enumerate(texts):
-        for name_b, b in texts[i + 1:]:
-            matcher = SequenceMatcher(None, a, b, autojunk=False)
-            if matcher.real_quick_ratio() >= NEAR_DUPLICATE and matcher.quick_ratio() >= NEAR_DUPLICATE and matcher.ratio() >= NEAR_DUPLICATE:
-                yield Problem(f"tools {name_a!r} and {name_b!r} have near-identical descriptions "
-                              f"(similarity {matcher.ratio():.2f}); a model cannot tell them apart",
-                              error_class=f"near-duplicate:{name_a}:{name_b}", tools=(name_a, name_b))
+    tools = [(str(raw.get("name")), str(raw.get("description") or "")) for raw in ctx.catalog.tools[:300] if isinstance(raw, dict)]
+    for names, similarity in near_duplicate_groups(tools):  # bounded: pairs of at most 300 tools
+        shown = ", ".join(repr(n) for n in names)
+        yield Problem(f"{len(names)} tools have near-identical descriptions (similarity {similarity:.2f} at the lowest): "
+                      f"{shown}; a model cannot tell them apart", error_class=f"near-duplicate:{names[0]}", tools=tuple(names))

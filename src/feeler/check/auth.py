@@ -4,7 +4,8 @@ Each check is one small function in :data:`AUTH_CHECKS` that sends plain HTTP re
 POST with or without a token, a GET of the Protected Resource Metadata) and yields problems:
 
 - ``auth_challenge``: no credentials -> 401 with ``WWW-Authenticate: Bearer`` carrying ``resource_metadata``
-  (RFC 6750 section 3; MCP 2025-06-18 and 2025-11-25 basic/authorization).
+  (RFC 6750 section 3; MCP 2025-06-18 basic/authorization: MUST). Since 2025-11-25 the parameter OR the
+  well-known URI is enough, so a missing parameter is a warning when the well-known metadata is there.
 - ``auth_metadata``: the Protected Resource Metadata (RFC 9728 sections 2, 3) is JSON with ``resource`` equal
   to the URL and at least one ``authorization_servers`` entry (MCP basic/authorization: MUST).
 - ``auth_invalid_token``: an invalid token -> 401 (RFC 6750 section 3.1, ``invalid_token``).
@@ -105,9 +106,10 @@ def _anonymous(ctx: AuthContext) -> Any:
     return ctx.seen["anonymous"]
 
 
-@auth_check("auth_challenge", "RFC 6750 section 3; RFC 9728 section 5.1; MCP 2025-11-25 basic/authorization")
+@auth_check("auth_challenge", "RFC 6750 section 3; RFC 9728 sections 3.1 and 5.1; MCP 2025-06-18 and 2025-11-25 basic/authorization")
 def auth_challenge(ctx: AuthContext) -> Iterator[Problem]:
-    """A request without credentials gets 401 with ``WWW-Authenticate: Bearer resource_metadata="..."``."""
+    """A request without credentials gets 401 with ``WWW-Authenticate: Bearer resource_metadata="..."``
+    (without the parameter: a warning when the metadata is at the well-known URI, else an error)."""
     response = _anonymous(ctx)
     if response.status_code < 300:
         yield Problem(f"a request without credentials was answered with HTTP {response.status_code}: the server "
@@ -120,18 +122,36 @@ def auth_challenge(ctx: AuthContext) -> Iterator[Problem]:
     if scheme.lower() != "bearer":
         yield Problem(f"the 401 has no WWW-Authenticate: Bearer challenge (got {scheme or 'none'!r})", error_class="no-bearer")
     elif "resource_metadata" not in params:
-        yield Problem("the 401 challenge carries no resource_metadata (the URL of its Protected Resource Metadata)",
-                      error_class="no-resource-metadata")
+        found = _well_known(ctx)
+        if found:  # 2025-11-25: the header parameter OR the well-known URI is enough
+            yield Problem(f"the 401 challenge carries no resource_metadata; clients of 2025-11-25 find the metadata at "
+                          f"{found}, clients of 2025-06-18 need the parameter", severity="warning",
+                          error_class="no-resource-metadata")
+        else:
+            yield Problem("the 401 challenge carries no resource_metadata and no Protected Resource Metadata is at the "
+                          "well-known URI: a client cannot find the authorization server", error_class="no-resource-metadata")
+
+
+def _well_known_urls(url: str) -> list[str]:
+    """RFC 9728 section 3.1, in the order of MCP 2025-11-25 basic/authorization: the path-suffixed URI first."""
+    parts = urlsplit(url)
+    well_known = "/.well-known/oauth-protected-resource"
+    path = parts.path.rstrip("/")
+    return [urlunsplit((parts.scheme, parts.netloc, well_known + path, "", "")), urlunsplit((parts.scheme, parts.netloc, well_known, "", ""))]
+
+
+def _well_known(ctx: AuthContext) -> str | None:
+    """The first well-known metadata URI that answers 200 (loopback only), or None."""
+    if "well-known" not in ctx.seen:
+        ctx.seen["well-known"] = next((u for u in _well_known_urls(ctx.url) if _loopback(u) and ctx.get(u).status_code == 200), None)
+    return ctx.seen["well-known"]
 
 
 def _metadata_urls(ctx: AuthContext) -> list[str]:
     _, params = _challenge(_anonymous(ctx))
     if params.get("resource_metadata"):
         return [params["resource_metadata"]]
-    parts = urlsplit(ctx.url)
-    well_known = "/.well-known/oauth-protected-resource"
-    path = parts.path.rstrip("/")
-    return [urlunsplit((parts.scheme, parts.netloc, well_known + path, "", "")), urlunsplit((parts.scheme, parts.netloc, well_known, "", ""))]
+    return _well_known_urls(ctx.url)
 
 
 @auth_check("auth_metadata", "RFC 9728 sections 2, 3 and 3.3; MCP 2025-11-25 basic/authorization (authorization_servers MUST)")

@@ -196,8 +196,9 @@ def nogo_stops(ctx: CallContext) -> Iterator[Problem]:
 
 @register("no_crash", applies_to=("go", "no-go"), reference="common practice: a tool reports failures, it does not crash")
 def no_crash(ctx: CallContext) -> Iterator[Problem]:
-    """A call never ends in an unhandled exception: no exception class, traceback line or SDK crash text
-    ("Error executing tool NAME") in an error or an isError result, no exit, no hang."""
+    """A call never ends in an unhandled exception: no exception class, traceback line, SDK crash text
+    ("Error executing tool NAME" alone) or interpreter wording ("unterminated character set", "object has
+    no attribute") in an error or an isError result, no exit, no hang."""
     from feeler.check.trust import crash_reason
 
     if ctx.failure is not None:
@@ -208,7 +209,8 @@ def no_crash(ctx: CallContext) -> Iterator[Problem]:
     for text in _error_texts(ctx):
         reason = crash_reason(text)
         if reason:
-            what = {"sdk-crash": "crashed (the SDK's text for an unexpected exception)", "traceback": "crashed (a traceback)"}
+            what = {"sdk-crash": "crashed (the SDK's text for an unexpected exception)", "traceback": "crashed (a traceback)",
+                    "exception-text": "raised an unhandled exception (the interpreter's own wording)"}
             yield Problem(
                 f"the tool {what.get(reason, 'raised an unhandled ' + reason.partition(':')[2])}{_where(ctx)}: {text.strip()}",
                 error_class=reason,
@@ -224,28 +226,20 @@ _TRACES = {
     "java-stack": re.compile(r"\bat [\w$.]+\([\w$]+\.java:\d+\)|Exception in thread \""),
     "go-panic": re.compile(r"goroutine \d+ \[|\bpanic: "),
 }
-_ABS_PATH = re.compile(
-    r"(?<![\w.~:/])("
-    r"/(?:home|Users|usr|opt|var|srv|root|app|tmp|etc|mnt|workspace)/[\w.@+-]+(?:/[\w.@+-]+)+"  # well-known roots
-    r"|/[\w.@+-]+(?:/[\w.@+-]+)+\.(?:py|pyc|js|mjs|cjs|ts|java|go|rb|php|rs|cs)\b"  # any absolute source file
-    r"|[A-Za-z]:\\\\?(?:[\w .-]+\\\\?)+)"
-)
-
-
 @register("no_leaks", applies_to=("go", "no-go", "probe"), reference="common practice (OWASP: error handling); MCP 2025-11-25 server/tools security")
 def no_leaks(ctx: CallContext) -> Iterator[Problem]:
     """Errors leak no internals: stack traces (Python, JavaScript, Java, Go), absolute file paths (but for
     those the user gave: the target's command line and working folder, the arguments sent), secrets."""
-    from feeler.check.trust import given_path
+    from feeler.check.trust import leaked_path
 
     for text in _error_texts(ctx):
         for name, pattern in _TRACES.items():
             if pattern.search(text):
                 yield Problem(f"an error shows a {name.replace('-', ' ')}{_where(ctx)}", error_class=name)
                 break
-        path = next((m for m in _ABS_PATH.finditer(text) if not given_path(m.group(0), ctx.settings.given_paths, getattr(ctx.case, "arguments", None))), None)
+        path = leaked_path(text, ctx.settings.given_paths, getattr(ctx.case, "arguments", None))
         if path:
-            yield Problem(f"an error shows an absolute file path {path.group(0)!r}{_where(ctx)}", error_class="absolute-path")
+            yield Problem(f"an error shows an absolute file path {path!r}{_where(ctx)}", error_class="absolute-path")
         for secret in ctx.settings.secrets:
             if secret and secret in text:
                 yield Problem(f"an error shows the value of a secret environment variable{_where(ctx)}", error_class="secret")
@@ -353,7 +347,8 @@ _TOOL_NAME = re.compile(r"^[A-Za-z0-9_.-]{1,128}$")
 
 @register("schema_usable", applies_to=("catalog",), reference="MCP 2025-11-25 basic/index (JSON Schema usage); JSON Schema 2020-12; jsonschema")
 def schema_usable(ctx: CallContext) -> Iterator[Problem]:
-    """The inputSchema is a valid JSON Schema of a known dialect, with no remote ``$ref``, rooted at an object."""
+    """The inputSchema is a valid JSON Schema of a known dialect, with no remote ``$ref``, rooted at an object
+    (the outputSchema is ``output_schema_valid``'s)."""
     from feeler.errors import SchemaProblem
     from feeler.generate import compile_schema
 
@@ -367,11 +362,7 @@ def schema_usable(ctx: CallContext) -> Iterator[Problem]:
         compile_schema(schema)
     except SchemaProblem as exc:
         yield Problem(f"the inputSchema cannot be used: {exc}", error_class=exc.reason)
-    if tool.output_schema is not None:
-        from feeler.check.schemas import output_validator
-
-        if output_validator(tool.output_schema) is None:
-            yield Problem("the outputSchema is not a valid JSON Schema", error_class="output-schema-invalid")
+    # The outputSchema is output_schema_valid's (feeler.check.audit): one finding, with the place that is wrong.
 
 
 @register("examples_valid", applies_to=("catalog",), severity="warning", reference="JSON Schema 2020-12 validation 9.5 (examples); jsonschema")

@@ -6,7 +6,7 @@ the human reviewing the catalog (invisible Unicode, comments, encoded blobs). :f
 :class:`Suspicion` per place and reason; the ``poisoned_text`` check reports them, and ``feeler diff``
 gives a breaking-grade ``review`` verdict to a description change that adds one.
 
-Tuned on ``tests/check/corpus/catalogs/`` (our own benign and malicious catalogs); the test prints how
+Tuned on ``tests/check/corpus/catalogs.json`` (our own benign and malicious tools); the test prints how
 many of each are flagged. Change a pattern only together with a corpus sample that shows why.
 """
 
@@ -48,16 +48,31 @@ REASONS = {
 }
 
 _I = re.IGNORECASE
+_WHO = r"(?:the )?(?:user|human|operator|them|person|people|customer|requester|anyone)"
+_SECRETS = (r"(?:private keys?|ssh keys?|api keys?|secrets?|passwords?|passphrases?|credentials?|tokens|session cookies?|"
+            r"cookies|environment variables|conversation|chat history|messages)")
 _PATTERNS: list[tuple[str, re.Pattern[str]]] = [
-    ("override", re.compile(r"\b(?:ignore|disregard|forget|override)\b[^.\n]{0,40}\b(?:previous|prior|earlier|above|all|other|system)\b[^.\n]{0,20}\b(?:instructions?|rules|prompts?|guidelines)\b", _I)),
-    ("override", re.compile(r"\b(?:new|updated) (?:system )?instructions?\s*:|\byou are now\b|\bfrom now on,? you\b", _I)),
-    ("secrecy", re.compile(r"\b(?:do not|don't|never|without)\b[^.\n]{0,30}\b(?:tell|telling|inform|informing|mention|mentioning|show|showing|reveal|revealing|notify|notifying|alert|alerting)\b[^.\n]{0,20}\b(?:the )?(?:user|human|operator|them)\b", _I)),
+    ("override", re.compile(r"\b(?:ignore|disregard|forget|override|pay no attention to)\b[^.\n]{0,40}\b(?:previous|prior|earlier|above|all|other|system|any)\b[^.\n]{0,20}\b(?:instructions?|rules|prompts?|guidelines|guidance)\b", _I)),
+    # "From now on, you can pass a prefix" explains a feature; "from now on you must..." re-instructs the model.
+    ("override", re.compile(r"\b(?:new|updated) (?:system )?instructions?\s*:|\byou are now\b|\bfrom now on,? you (?:must|will|shall|should|have to|are to|only)\b", _I)),
+    ("secrecy", re.compile(rf"\b(?:do not|don't|never|without)\b[^.\n]{{0,30}}\b(?:tell|telling|inform|informing|mention|mentioning|reveal|revealing|notify|notifying|alert|alerting)\b[^.\n]{{0,20}}\b{_WHO}\b", _I)),
+    # "show": hiding is "do not show this to the user" or "...show the user that/what..."; "do not show the user
+    # raw IDs" is about how to present data.
+    ("secrecy", re.compile(rf"\b(?:do not|don't|never|without)\b[^.\n]{{0,30}}\bshow(?:ing)?\s+(?:(?:this|it|these|that|anything)\b[^.\n]{{0,20}}\b{_WHO}\b|{_WHO} (?:that|this|it|what|how|where)\b)", _I)),
     ("secrecy", re.compile(r"\b(?:keep|hide) (?:this|it|these)\b[^.\n]{0,30}\b(?:secret|hidden|from the user)\b|\bsilently\b[^.\n]{0,40}\b(?:send|include|append|attach|forward|upload)\b", _I)),
-    ("sensitive-read", re.compile(r"(?:~|\$HOME|%USERPROFILE%)[/\\]\.[\w.-]+|\bid_(?:rsa|ed25519|ecdsa)\b|\.ssh[/\\]|/etc/(?:passwd|shadow)\b|\.aws[/\\]credentials|(?<![\w-])\.env\b|\bmcp\.json\b", _I)),
-    ("sensitive-read", re.compile(r"\b(?:read|include|pass|append|attach|upload|forward|copy|send)\b[^.\n]{0,30}\b(?:the user'?s|your|all|any|their)\b[^.\n]{0,12}\b(?:private keys?|api keys?|secrets|passwords|credentials|tokens|environment variables|conversation|chat history|messages)\b", _I)),
+    # Files that hold secrets: dot-files in a home folder, key files, and the secrets file .env (not the
+    # .env.example/.sample/.template that documents its format); mcp.json (a client's server list, with their
+    # credentials) when it is in a path or is to be read, not when a config how-to names it.
+    ("sensitive-read", re.compile(r"(?:~|\$HOME|%USERPROFILE%)[/\\]\.[\w.-]+|/(?:home|Users)/[^/\s]+/\.[\w.-]+|/root/\.[\w.-]+|"
+                                  r"\bid_(?:rsa|ed25519|ecdsa)\b|\.ssh[/\\]|/etc/(?:passwd|shadow)\b|\.aws[/\\]credentials|"
+                                  r"(?<![\w-])\.env(?![\w-]|\.\w)|[/\\~][\w./\\-]*\bmcp\.json\b|"
+                                  r"\b(?:read|open|include|pass|send|attach|upload|copy|cat)\b[^.\n]{0,30}\bmcp\.json\b", _I)),
+    ("sensitive-read", re.compile(rf"\b(?:read|include|pass|append|attach|upload|forward|copy|send|give)\b[^.\n]{{0,30}}\b(?:the user'?s|your|all|any|their)\b[^.\n]{{0,12}}\b{_SECRETS}\b", _I)),
+    ("sensitive-read", re.compile(r"\b(?:full|whole|entire) (?:conversation|chat|chat history|message history)\b|\bconversation so far\b", _I)),
     ("tool-steering", re.compile(r"\binstead of (?:calling|using)\b[^.\n]{0,40}\btool\b", _I)),
     ("tool-steering", re.compile(r"\b(?:do not|don't|never) (?:use|call) (?:any |the )?(?:other|another)\b[^.\n]{0,20}\btools?\b", _I)),
-    ("tool-steering", re.compile(r"\bbefore (?:using|calling) (?:this|any other|any) tool\b[^.\n]{0,30}\b(?:must|always|first)\b", _I)),
+    ("tool-steering", re.compile(r"\bbefore (?:using|calling) (?:this|any other|any) tool\b[^.\n]{0,30}\b(?:must|always|first)\b|"
+                                 r"\b(?:call|use) this tool (?:first|before (?:any|all|every) other tools?)\b", _I)),
     ("tool-steering", re.compile(r"\bwhen(?:ever)? (?:the user|you) (?:calls?|uses?) (?:the )?[`'\"]?[\w.-]+[`'\"]? tool\b[^.\n]{0,40}\b(?:send|include|add|instead|also|first)\b", _I)),
     ("model-tags", re.compile(r"<\s*/?\s*(?:important|system|instructions?|secret|hidden|assistant|admin)\s*>", _I)),
     ("hidden-comment", re.compile(r"<!--.*?-->|\[//\]:\s*#|^\s*\[comment\]:\s*<>", re.DOTALL | re.MULTILINE)),

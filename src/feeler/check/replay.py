@@ -151,10 +151,12 @@ def replay(data: dict[str, Any], *, timeout: float = 30.0, target: Target | None
     finding's base is the value one step inside the bound (recomputed for files that do not hold it).
     """
     from feeler.check.registry import CHECKS, CallContext, CheckSettings, current_name
+    from feeler.config import load_config
     from feeler.connect import capture, open_session
     from feeler.redact import redactor_for
 
     tgt = target or Target.from_json(data["target"])
+    secrets = redactor_for(tgt, load_config().values).values  # secret_env/secrets of [tool.feeler] too
     finding = data["finding"]
     stored_name = str(finding.get("check", ""))
     name = current_name(stored_name)
@@ -168,7 +170,7 @@ def replay(data: dict[str, Any], *, timeout: float = 30.0, target: Target | None
             from feeler.world.chains import replay_sequence
 
             def make_ctx(chain_tool: Tool | None) -> CallContext:
-                settings = CheckSettings(secrets=redactor_for(tgt).values)
+                settings = CheckSettings(secrets=secrets)
                 return CallContext("chain", chain_tool, str(session.revision), str(session.era), settings)
 
             seen = replay_sequence(session, data, make_ctx, catalog, timeout)
@@ -196,7 +198,7 @@ def replay(data: dict[str, Any], *, timeout: float = 30.0, target: Target | None
         settings = CheckSettings(
             strict_go=bool(stored.get("strictGo", False)),
             latency_budget={str(k): float(v) for k, v in (stored.get("latencyBudget") or {}).items()},
-            secrets=redactor_for(tgt).values,
+            secrets=secrets,
         )
         ctx = CallContext(ctx_kind, tool, str(session.revision), str(session.era), settings, case=case)
         base_arguments = _base_arguments(data, name, kind, tool, case)

@@ -350,6 +350,9 @@ class Runner:
         """Why *tool* is not called, naming the *option* that would call it (the CLI's, or pytest's)."""
         if tool.destructive and not self.options.allow_destructive:
             return f"annotated destructive (destructiveHint); pass {option} to call it"
+        if tool.task_support == "required":
+            return ("not tested here: it needs task-augmented calls (execution.taskSupport: required, MCP 2025-11-25 "
+                    "tasks) and feeler sends plain calls; its catalog entry is still audited")
         return None
 
     def run_tool(self, tool: Tool, kinds: tuple[str, ...] = CASE_KINDS_RUN) -> list[Finding]:

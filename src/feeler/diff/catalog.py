@@ -16,7 +16,7 @@ from feeler.diff.engine import DEFAULT_SAMPLES, diff_schemas
 from feeler.diff.model import Change, Direction, Verdict, overall_bump
 from feeler.diff.witness import Kit, NoInstance
 
-__all__ = ["CATALOG_RULES", "DiffReport", "catalog_rule", "diff_catalogs", "ANNOTATION_DEFAULTS"]
+__all__ = ["CATALOG_RULES", "DiffReport", "catalog_rule", "diff_catalogs", "poisoned_changes", "ANNOTATION_DEFAULTS"]
 
 CatalogRule = Callable[[Catalog, Catalog, int], Iterator[Change]]
 CATALOG_RULES: dict[str, CatalogRule] = {}
@@ -97,24 +97,32 @@ def diff_tool(old: Tool, new: Tool, *, samples: int = DEFAULT_SAMPLES) -> Iterat
             yield _c(f"tool-{key}", Verdict.REVIEW, f"{key} changed (it steers a model's choice of tools; "
                      "read the new text)", subject, reason=f"{_short(old.raw.get(key))} -> "
                      f"{_short(new.raw.get(key))}")
-    yield from _poison_added(old, new, subject)
-    eo = (old.raw.get("execution") or {}).get("taskSupport", "forbidden")
-    en = (new.raw.get("execution") or {}).get("taskSupport", "forbidden")
+    eo, en = old.task_support, new.task_support
     if eo != en:
         verdict = Verdict.BREAKING if en == "required" else Verdict.COMPATIBLE
         yield _c("task-support", verdict, f"execution.taskSupport {eo!r} -> {en!r}", subject)
 
 
-def _poison_added(old: Tool, new: Tool, subject: str) -> Iterator[Change]:
-    """Text aimed at the model (:mod:`feeler.check.poison`) that the new tool carries and the old did not:
-    a review that blocks the release until a person has read it."""
-    from feeler.check.poison import REASONS, scan
+def poisoned_changes(old: Catalog, new: Catalog, allowed_hosts: tuple[str, ...] = ()) -> Iterator[Change]:
+    """Text aimed at the model (:mod:`feeler.check.poison`) that the new catalog carries and the old did not:
+    in a tool common to both, in an added tool, or in the server's instructions. Each is a review that
+    blocks the release until a person has read it. *allowed_hosts* are the hosts a link may name."""
+    from feeler.check.poison import REASONS, scan, scan_text
 
-    before = {(s.reason, s.where) for s in scan(old.raw)}
-    for s in scan(new.raw):
-        if (s.reason, s.where) not in before:
-            yield _c("poisoned-description", Verdict.REVIEW, f"{s.where} now {REASONS[s.reason]} (read it before "
-                     "releasing: a model follows it)", subject, reason=f"{s.reason}: {s.excerpt!r}", blocks=True)
+    def changes(before: set[tuple[str, str]], now: list[Any], subject: str, added: bool) -> Iterator[Change]:
+        for s in now:
+            if (s.reason, s.where) not in before:
+                what = f"new tool: {s.where}" if added else f"{s.where} now"
+                yield _c("poisoned-description", Verdict.REVIEW, f"{what} {REASONS[s.reason]} (read it before "
+                         "releasing: a model follows it)", subject, reason=f"{s.reason}: {s.excerpt!r}", blocks=True)
+
+    to, tn = _by(old.tools, "name"), _by(new.tools, "name")
+    for name in sorted(tn):
+        before = {(s.reason, s.where) for s in scan(to[name], allowed_hosts)} if name in to else set()
+        yield from changes(before, scan(tn[name], allowed_hosts), f"tool:{name}", name not in to)
+    texts = [(c.instructions if isinstance(c.instructions, str) else "") for c in (old, new)]
+    before = {(s.reason, s.where) for s in scan_text(texts[0], "instructions", allowed_hosts)}
+    yield from changes(before, list(scan_text(texts[1], "instructions", allowed_hosts)), "server", False)
 
 
 def _output_schema(old: Tool, new: Tool, subject: str, samples: int) -> Iterator[Change]:
@@ -313,10 +321,12 @@ _ORDER = {Verdict.BREAKING: 0, Verdict.LIKELY_BREAKING: 1, Verdict.REVIEW: 2, Ve
 
 
 def diff_catalogs(old: Catalog, new: Catalog, *, samples: int = DEFAULT_SAMPLES, old_label: str = "old",
-                  new_label: str = "new") -> DiffReport:
-    """Run every catalog rule and return a :class:`DiffReport`, most severe changes first (stable order).
+                  new_label: str = "new", allowed_hosts: tuple[str, ...] = ()) -> DiffReport:
+    """Run every catalog rule, then look for poisoned text the new catalog adds (:func:`poisoned_changes`),
+    and return a :class:`DiffReport`, most severe changes first (stable order).
 
     :param samples: instances generated per schema pair when hunting witnesses or confirming compatibility.
+    :param allowed_hosts: hosts a description may link to (``allowed_hosts`` of ``[tool.feeler]``).
     """
     changes: list[Change] = []
     for rule in CATALOG_RULES.values():
@@ -324,5 +334,6 @@ def diff_catalogs(old: Catalog, new: Catalog, *, samples: int = DEFAULT_SAMPLES,
             changes.extend(rule(old, new, samples))
         except NoInstance:  # pragma: no cover - a builder failure must not hide the other rules
             continue
+    changes.extend(poisoned_changes(old, new, tuple(allowed_hosts)))
     changes.sort(key=lambda c: (_ORDER[c.verdict], c.subject, c.direction.value, c.keyword_location, c.rule, c.message))
     return DiffReport(changes, old_label, new_label)

@@ -91,12 +91,16 @@ def diff(sides: tuple[str, ...], fmt: str, samples: int, timeout: float, summary
     if len(sides) != 2:
         raise click.UsageError(f"diff compares two sides, OLD and NEW; got {len(sides)} ({' '.join(sides)}); {_TWO_SIDES}")
     old, new = sides
+    from feeler.config import load_config
+
     try:
-        old_cat, old_label = load_side(old, timeout=timeout)
-        new_cat, new_label = load_side(new, timeout=timeout)
+        config = load_config()
+        old_cat, old_label = load_side(old, timeout=timeout, config=config)
+        new_cat, new_label = load_side(new, timeout=timeout, config=config)
     except FeelerError as exc:
         raise click.UsageError(str(exc)) from exc
-    report = diff_catalogs(old_cat, new_cat, samples=samples, old_label=old_label, new_label=new_label)
+    hosts = tuple(str(h) for h in config.get("allowed_hosts") or ())  # links to these are no finding
+    report = diff_catalogs(old_cat, new_cat, samples=samples, old_label=old_label, new_label=new_label, allowed_hosts=hosts)
     click.echo(render(report, fmt), nl=False)
     target = summary_file or (os.environ.get("GITHUB_STEP_SUMMARY") if fmt == "markdown" else None)
     if target:

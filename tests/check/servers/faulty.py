@@ -364,6 +364,20 @@ class BadName(Clean):
         return self.call_echo({**params, "name": "echo"})
 
 
+class TaskRequired(Clean):
+    """The echo tool declares ``execution.taskSupport: "required"`` and refuses every call without a task with
+    -32601 (MCP 2025-11-25 server/tools, execution; basic/utilities/tasks)."""
+
+    def __init__(self) -> None:
+        super().__init__()
+        self.tools = [{**ECHO_TOOL, "execution": {"taskSupport": "required"}}]
+
+    def on_tools_call(self, params: dict[str, Any], request_id: Any) -> dict[str, Any]:
+        if "task" not in params:
+            raise RpcError(-32601, f"Tool {params.get('name')} requires task augmentation (taskSupport: 'required')")
+        return self.call_echo(params)
+
+
 # -- protocol probes --------------------------------------------------------------------------
 
 
@@ -437,6 +451,7 @@ FAULTS: dict[str, type[WireServer]] = {
     "array-root": ArrayRoot,
     "invalid-schema": InvalidSchema,
     "bad-name": BadName,
+    "task-required": TaskRequired,
     "strict-probes": StrictProbes,
     "answers-notifications": AnswersNotifications,
     "wrong-method-code": WrongMethodCode,
