@@ -8,10 +8,12 @@ rest; a tool that hangs twice is not called again in that run.
 
 from __future__ import annotations
 
+import bisect
 import json
 import os
+import random
 import re
-from collections.abc import Callable
+from collections.abc import Callable, Iterable, Iterator
 from dataclasses import dataclass, field
 from typing import Any
 
@@ -26,10 +28,16 @@ from feeler.session import Exchange, Session
 from feeler.target import Target
 from feeler.world import ValuePool
 from feeler.world.anchor import ToolWorld
+from feeler.world.apply import CASE_SOURCES, with_values
 
 __all__ = ["Call", "RunOptions", "RunReport", "Runner", "ToolStats", "secret_values"]
 
 CASE_KINDS_RUN = ("catalog", "go", "no-go", "probe")
+#: examples hypothesis may draw while it looks for (and shrinks) a failure the fast sampler met
+SHRINK_SEARCH = 200
+#: saved failing examples (feeler's JSON ones) retried per tool before the sampled cases
+MAX_SAVED_RETRIED = 50
+_JSON_KEY = b".feeler-json"
 
 
 @dataclass
@@ -71,6 +79,8 @@ class RunOptions:
     alive_every: int = 20
     #: hypothesis example database for drawn go cases (None: none); failing examples are retried first
     example_db: Any = None
+    #: only these tools (exact names; None: every tool include/exclude leave), e.g. one campaign shard
+    only: list[str] | None = None
 
 
 @dataclass
@@ -89,7 +99,16 @@ class ToolStats:
     nogo_entered: int = 0
     probes: int = 0
     timeouts: int = 0
+    #: a uniform sample of the call durations (seconds; reservoir sampling, at most LATENCY_SAMPLE kept)
     durations: list[float] = field(default_factory=list)
+    #: every call's duration counted in the report's fixed-bound histogram (feeler.report.LATENCY_BOUNDS)
+    latency_buckets: list[int] = field(default_factory=list)
+    latency_count: int = 0
+    latency_max: float | None = None
+    #: chain steps that called this tool (feeler.world.chains)
+    chain_calls: int = 0
+    #: seconds spent in answered calls, per case kind (go, no-go, chain)
+    seconds: dict[str, float] = field(default_factory=dict)
     schema_problem: str | None = None
     #: the explicit cases sent (boundary go and no-go), kept to compute keyword coverage
     cases: list[Any] = field(default_factory=list, repr=False)
@@ -213,6 +232,10 @@ class Runner:
         self.pool = self.options.values if self.options.values is not None else ValuePool()
         self.last_call: CallContext | None = None
         self._world: Any = None
+        self._shrunk: dict[str, set[str]] = {}  # per tool: checks whose failure hypothesis was asked to shrink
+        #: sampled go cases of the current tool already called (a resumed campaign skips as many: drawn_skip)
+        self.drawn_done = 0
+        self.drawn_skip = 0
         self.redactor = self.options.redactor or redactor_for(target)
         self.settings = _with_target(self.options.settings, target, self.redactor)
 
@@ -308,6 +331,8 @@ class Runner:
                 continue
             if any(fnmatchcase(tool.name, p) for p in self.options.exclude):
                 continue
+            if self.options.only is not None and tool.name not in self.options.only:
+                continue
             out.append(tool)
         return out
 
@@ -401,8 +426,7 @@ class Runner:
         return stats.bases
 
     def _go(self, tool: Tool, stats: ToolStats) -> None:
-        from feeler.generate import arguments, go_cases
-        from feeler.world.apply import CASE_SOURCES, with_values
+        from feeler.generate import go_cases
         from feeler.world.plan import base_cases
 
         bases = self._bases(tool, stats)
@@ -419,7 +443,7 @@ class Runner:
                 for pick, case in enumerate(drawn_cases(tool.input_schema, self.options.samples, seed=self.options.sample_seed)):
                     self._call_case(tool, stats, with_values(tool.input_schema, tool.name, case, self.pool, pick=pick, sources=CASE_SOURCES))
             return
-        self._drawn_go(tool, stats, arguments(tool.input_schema))
+        self._drawn_go(tool, stats)
 
     def _bound_base(self, tool: Tool, stats: ToolStats, case: Any) -> bool:
         """An on-bound go case the tool refused: call its base (the value one step inside the bound) and
@@ -458,20 +482,104 @@ class Runner:
                 if (f.tools or [f.tool]) == [tool.name] and f.kind == "go" and f.error_class in ("refused-valid", "is-error")
             )  # fmt: skip
 
-    def _drawn_go(self, tool: Tool, stats: ToolStats, strategy: Any) -> None:
-        """Sampled go cases in a hypothesis property, so a failure is shrunk to the smallest arguments."""
-        from hypothesis import HealthCheck, Phase, Verbosity, given, seed, settings
-        from hypothesis import strategies as st
+    def _drawn_go(self, tool: Tool, stats: ToolStats) -> None:
+        """Sampled go cases: the failing examples saved in the example database first, then the fast
+        sampler (:func:`feeler.generate.fast_go_cases`) in a plain loop. A case that fails a check this
+        tool has not failed before in this run is saved to the example database and handed to
+        hypothesis, which looks for the failure with its own strategy and shrinks it to the smallest
+        arguments (the smaller finding replaces the larger one). Hypothesis runs only then: its engine
+        costs more per case than the call itself against a fast server (bench/README.md)."""
+        from feeler.generate import fast_go_cases
+
+        if self.options.samples <= 0:
+            return
+        if self.options.example_db is not None and not self._retry_saved(tool, stats):
+            return
+        cases = fast_go_cases(tool.input_schema, self.options.samples, seed=self.options.sample_seed)
+        start, self.drawn_skip = min(self.drawn_skip, len(cases)), 0
+        self.drawn_done = start
+
+        def prepared() -> Iterator[Any]:
+            for pick in range(start, len(cases)):
+                self.drawn_done = pick + 1  # counted as done once it is handed out (a resume skips it)
+                yield with_values(tool.input_schema, tool.name, cases[pick], self.pool, pick=pick, sources=CASE_SOURCES)
+
+        for case, failed in self._call_cases(tool, stats, prepared()):
+            if failed is None:
+                return  # the tool cannot be called any more (hangs, restarts used up)
+            if failed:
+                self._on_drawn_failure(tool, stats, case, failed)
+
+    def _call_cases(self, tool: Tool, stats: ToolStats, cases: Iterable[Any]) -> Iterator[tuple[Any, list[str] | None]]:
+        """Call each case in turn; yields ``(case, failed checks)``, ``None`` for the checks when the tool
+        cannot be called again (then it stops)."""
+        for case in cases:
+            try:
+                failed = self._call_case(tool, stats, case, collect=True)
+            except _ToolAbandoned:
+                yield case, None
+                return
+            yield case, failed
+
+    def _on_drawn_failure(self, tool: Tool, stats: ToolStats, case: Any, failed: list[str]) -> None:
+        seen = self._shrunk.setdefault(tool.name, set())
+        new = [name for name in failed if name not in seen]
+        if not new:
+            return
+        seen.update(failed)
+        db = self.options.example_db
+        if db is not None:
+            db.save(_database_key(tool) + _JSON_KEY, json.dumps(case.arguments, sort_keys=True, default=str).encode("utf-8"))
+        if self.options.shrink:
+            from hypothesis import Phase
+
+            self._hypothesis_go(tool, stats, [Phase.generate, Phase.shrink], min(SHRINK_SEARCH, max(self.options.samples, 50)))
+
+    def _retry_saved(self, tool: Tool, stats: ToolStats) -> bool:
+        """The failing examples in the example database, retried first: those feeler saved as JSON
+        (dropped once they pass) and hypothesis' own (replayed and shrunk by hypothesis). False when the
+        tool cannot be called any more."""
+        from hypothesis import Phase
 
         from feeler.generate import Case
-        from feeler.world.apply import CASE_SOURCES, with_values
 
-        phases = [Phase.generate, Phase.shrink] if self.options.shrink else [Phase.generate]
-        if self.options.example_db is not None:
-            phases.insert(0, Phase.reuse)
+        db = self.options.example_db
+        key = _database_key(tool)
+        saved = []
+        for raw in db.fetch(key + _JSON_KEY):
+            if len(saved) >= MAX_SAVED_RETRIED:
+                break
+            try:
+                saved.append((raw, json.loads(raw.decode("utf-8"))))
+            except ValueError:
+                db.delete(key + _JSON_KEY, raw)
+        for raw, arguments in saved:
+            case = Case("go", None, "$", "", arguments, None, "sampled", "saved failing example")
+            try:
+                failed = self._call_case(tool, stats, case, collect=True)
+            except _ToolAbandoned:
+                return False
+            if failed:
+                self._shrunk.setdefault(tool.name, set()).update(failed)
+            else:
+                db.delete(key + _JSON_KEY, raw)  # fixed: not retried again
+        if next(iter(db.fetch(key)), None) is not None:
+            return self._hypothesis_go(tool, stats, [Phase.reuse, Phase.shrink], 1)
+        return True
+
+    def _hypothesis_go(self, tool: Tool, stats: ToolStats, phases: list[Any], max_examples: int) -> bool:
+        """Go cases drawn by hypothesis (``feeler.generate.arguments``) in a property, so that a failure
+        is shrunk to the smallest arguments and kept in the example database. False when the tool cannot
+        be called any more."""
+        import unittest
+
+        from hypothesis import HealthCheck, Verbosity, given, seed, settings
+        from hypothesis import strategies as st
+
+        from feeler.generate import Case, arguments
 
         @settings(
-            max_examples=self.options.samples,
+            max_examples=max_examples,
             deadline=None,
             database=self.options.example_db,
             phases=phases,
@@ -480,19 +588,20 @@ class Runner:
             report_multiple_bugs=True,
         )
         @seed(self.options.sample_seed)
-        @given(strategy, st.integers(0, 255) if len(self.pool) else st.just(0))
+        @given(arguments(tool.input_schema), st.integers(0, 255) if len(self.pool) else st.just(0))
         def prop(args: Any, pick: int) -> None:
             case = Case("go", None, "$", "", args, None, "sampled", "sampled")
             case = with_values(tool.input_schema, tool.name, case, self.pool, pick=pick, sources=CASE_SOURCES)
             failed = self._call_case(tool, stats, case, collect=True)
             if failed:
+                self._shrunk.setdefault(tool.name, set()).update(failed)
                 raise _failure_type(failed[0])(failed)
 
         # One database key per tool and schema: hypothesis would otherwise key every tool alike.
         prop._hypothesis_internal_database_key = _database_key(tool)  # type: ignore[attr-defined]
         try:
             prop()
-        except _CaseFailed:
+        except (_CaseFailed, unittest.SkipTest):
             pass
         except BaseException as exc:  # an exception group of several distinct failures, or our abort
             # (a flaky server, e.g. one that is only sometimes slow, gives hypothesis a FlakyFailure group
@@ -501,6 +610,9 @@ class Runner:
                 isinstance(e, (_CaseFailed, _ToolAbandoned)) for e in _leaves(exc)
             ):
                 raise
+            if any(isinstance(e, _ToolAbandoned) for e in _leaves(exc)):
+                return False
+        return True
 
     def _nogo(self, tool: Tool, stats: ToolStats) -> None:
         from feeler.generate import Case, nogo_cases
@@ -580,8 +692,7 @@ class Runner:
     def _count(self, stats: ToolStats, ctx: CallContext) -> None:
         ex = ctx.exchange
         if ex is not None and ex.finished is not None:
-            if len(stats.durations) < 10_000:
-                stats.durations.append(ex.duration)
+            note_duration(stats, ex.duration, ctx.kind)
         if ctx.kind == "go":
             stats.world.note_go(ctx.case, ex, ctx.failure)
             stats.go_calls += 1
@@ -675,6 +786,33 @@ class Runner:
         for finding in self.report.findings:
             if finding.request_text:
                 finding.replay = write_replay(self.options.replay_dir, self.target, finding, self.settings)
+
+
+#: durations kept per tool for the percentiles (the histogram counts every call)
+LATENCY_SAMPLE = 4096
+_sampler = random.Random(0)
+
+
+def note_duration(stats: ToolStats, seconds: float, kind: str) -> None:
+    """Count one call's duration: in the time per case kind, exactly in the fixed-bound histogram, and in
+    the bounded uniform sample the percentiles come from (reservoir sampling, Vitter's algorithm R), so
+    memory stays flat."""
+    from feeler.report.document import LATENCY_BOUNDS
+
+    stats.seconds[kind] = stats.seconds.get(kind, 0.0) + seconds
+
+    if not stats.latency_buckets:
+        stats.latency_buckets = [0] * (len(LATENCY_BOUNDS) + 1)
+    stats.latency_buckets[bisect.bisect_left(LATENCY_BOUNDS, seconds)] += 1
+    stats.latency_count += 1
+    if stats.latency_max is None or seconds > stats.latency_max:
+        stats.latency_max = seconds
+    if len(stats.durations) < LATENCY_SAMPLE:
+        stats.durations.append(seconds)
+    else:
+        slot = _sampler.randrange(stats.latency_count)
+        if slot < LATENCY_SAMPLE:
+            stats.durations[slot] = seconds
 
 
 def _leaves(exc: BaseException, depth: int = 0) -> list[BaseException]:
