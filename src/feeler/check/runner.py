@@ -236,6 +236,7 @@ class Runner:
         #: sampled go cases of the current tool already called (a resumed campaign skips as many: drawn_skip)
         self.drawn_done = 0
         self.drawn_skip = 0
+        self._schemas: dict[str, Any] = {}
         self.redactor = self.options.redactor or redactor_for(target)
         self.settings = _with_target(self.options.settings, target, self.redactor)
 
@@ -336,6 +337,16 @@ class Runner:
             out.append(tool)
         return out
 
+    def schema(self, tool: Tool) -> Any:
+        """*tool*'s input schema compiled once per run (:func:`feeler.generate.compile_schema`; a
+        ``SchemaProblem`` is raised each time, nothing is kept for it)."""
+        from feeler.generate import compile_schema
+
+        ts = self._schemas.get(tool.name)
+        if ts is None:
+            ts = self._schemas[tool.name] = compile_schema(tool.input_schema, name=tool.name)
+        return ts
+
     def stats(self, tool: Tool) -> ToolStats:
         if tool.name not in self.report.tools:
             self.report.tools[tool.name] = ToolStats(tool.name, annotated=tool.annotated)
@@ -430,9 +441,9 @@ class Runner:
         from feeler.world.plan import base_cases
 
         bases = self._bases(tool, stats)
-        planned = base_cases(tool, self.pool, bases) + go_cases(tool.input_schema, seed=self.options.sample_seed)
+        planned = base_cases(tool, self.pool, bases) + go_cases(self.schema(tool), seed=self.options.sample_seed)
         for pick, case in enumerate(planned):
-            case = with_values(tool.input_schema, tool.name, case, self.pool, pick=pick, sources=CASE_SOURCES)
+            case = with_values(self.schema(tool), tool.name, case, self.pool, pick=pick, sources=CASE_SOURCES)
             stats.cases.append(case)
             if not self._call_case(tool, stats, case) or not self._bound_base(tool, stats, case):
                 return
@@ -440,8 +451,8 @@ class Runner:
             if self.options.dry_run:
                 from feeler.generate import drawn_cases
 
-                for pick, case in enumerate(drawn_cases(tool.input_schema, self.options.samples, seed=self.options.sample_seed)):
-                    self._call_case(tool, stats, with_values(tool.input_schema, tool.name, case, self.pool, pick=pick, sources=CASE_SOURCES))
+                for pick, case in enumerate(drawn_cases(self.schema(tool), self.options.samples, seed=self.options.sample_seed)):
+                    self._call_case(tool, stats, with_values(self.schema(tool), tool.name, case, self.pool, pick=pick, sources=CASE_SOURCES))
             return
         self._drawn_go(tool, stats)
 
@@ -495,14 +506,15 @@ class Runner:
             return
         if self.options.example_db is not None and not self._retry_saved(tool, stats):
             return
-        cases = fast_go_cases(tool.input_schema, self.options.samples, seed=self.options.sample_seed)
+        ts = self.schema(tool)
+        cases = fast_go_cases(ts, self.options.samples, seed=self.options.sample_seed)
         start, self.drawn_skip = min(self.drawn_skip, len(cases)), 0
         self.drawn_done = start
 
         def prepared() -> Iterator[Any]:
             for pick in range(start, len(cases)):
                 self.drawn_done = pick + 1  # counted as done once it is handed out (a resume skips it)
-                yield with_values(tool.input_schema, tool.name, cases[pick], self.pool, pick=pick, sources=CASE_SOURCES)
+                yield with_values(ts, tool.name, cases[pick], self.pool, pick=pick, sources=CASE_SOURCES)
 
         for case, failed in self._call_cases(tool, stats, prepared()):
             if failed is None:
@@ -588,10 +600,10 @@ class Runner:
             report_multiple_bugs=True,
         )
         @seed(self.options.sample_seed)
-        @given(arguments(tool.input_schema), st.integers(0, 255) if len(self.pool) else st.just(0))
+        @given(arguments(self.schema(tool)), st.integers(0, 255) if len(self.pool) else st.just(0))
         def prop(args: Any, pick: int) -> None:
             case = Case("go", None, "$", "", args, None, "sampled", "sampled")
-            case = with_values(tool.input_schema, tool.name, case, self.pool, pick=pick, sources=CASE_SOURCES)
+            case = with_values(self.schema(tool), tool.name, case, self.pool, pick=pick, sources=CASE_SOURCES)
             failed = self._call_case(tool, stats, case, collect=True)
             if failed:
                 self._shrunk.setdefault(tool.name, set()).update(failed)
@@ -627,7 +639,7 @@ class Runner:
             ]:
                 if not self._call_case(tool, stats, case):
                     return
-        for case in nogo_cases(tool.input_schema, bases=nogo_bases(stats.world, tool, self.pool, bases)):
+        for case in nogo_cases(self.schema(tool), bases=nogo_bases(stats.world, tool, self.pool, bases)):
             stats.cases.append(case)
             if not self._call_case(tool, stats, case):
                 return

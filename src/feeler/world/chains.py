@@ -169,12 +169,11 @@ class _Plan:
     """What the machine is built from: the chain's tools, their base arguments and their slots."""
 
     def __init__(self, runner: Runner, tools: list[Tool], bases: dict[str, list[Any]]) -> None:
-        from feeler.generate import compile_schema
 
         self.runner = runner
         self.tools = {t.name: t for t in tools}
         self.bases = bases
-        self.schemas = {t.name: compile_schema(t.input_schema) for t in tools}
+        self.schemas = {t.name: runner.schema(t) for t in tools}
         self.nouns = {t.name: nouns(t.name) for t in tools}
         self.slots: list[_Slot] = []
         for tool in tools:
