@@ -63,6 +63,9 @@ class _Progress:
 @click.option("--example-db", default=None, metavar="DIR|redis://HOST:PORT/N|none",
               help="hypothesis example database: failing examples are retried first next time [.feeler/examples].")
 @click.option("--folder", default=None, metavar="DIR", help="Campaign folder: state and call log [.feeler/campaigns/TARGET[-shard-i-of-n]].")
+@click.option("--workers", type=click.IntRange(min=1, max=64), default=1, show_default=True,
+              help="Sessions calling sampled go cases side by side: server processes for a stdio target (each "
+                   "with its own state), concurrent sessions for HTTP.")
 @click.option("--fresh", is_flag=True, help="Start afresh even if an interrupted campaign can be continued.")
 @click.option("--sample-seed", "seed", type=int, default=0, show_default=True, help="Sample seed of the first round (round r uses seed + r).")
 @click.option("--include", multiple=True, metavar="PATTERN", help="Only tools matching this glob (repeatable).")
@@ -94,6 +97,7 @@ def campaign(**kwargs: Any) -> int:
     options = RunOptions(
         sample_seed=kwargs["seed"], samples=kwargs["samples"], include=list(kwargs["include"]),
         exclude=list(kwargs["exclude"]), allow_destructive=kwargs["allow_destructive"], replay_dir=kwargs["replay_dir"],
+        workers=kwargs["workers"],
     )  # fmt: skip
     camp_options = CampaignOptions(
         budget=budget, folder=folder, shard=shard, samples=kwargs["samples"], max_samples=kwargs["max_samples"],

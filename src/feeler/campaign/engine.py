@@ -15,7 +15,7 @@ can make the values its tools need and run its own chains. A shard calls and rep
 
 The state (round, position, sampled cases done in the current step, time used, findings, counters) is
 written atomically to ``state.json`` in the campaign folder, next to the call log ``calls.jsonl``, after
-every step and every :data:`SAVE_EVERY_CALLS` calls or :data:`SAVE_EVERY_SECONDS` seconds. Started
+every step and every ``save_every_calls`` calls or ``save_every_seconds`` seconds (CampaignOptions). Started
 again after an interruption, the campaign continues from that step, skipping the sampled cases already
 made (round 0 of the interrupted tool is made again: its calls are counted again, as the call log
 records them); the time budget counts the time of every start. A finished campaign starts afresh next
@@ -177,6 +177,9 @@ class CampaignOptions:
     example_db: Any = None
     example_db_name: str | None = None
     fresh: bool = False
+    #: the state is also saved after this many calls or seconds within a step (bounded cost; a kill loses less)
+    save_every_calls: int = 2000
+    save_every_seconds: float = 10.0
 
 
 #: A rotation step: ``step(campaign, tool, round)`` runs one tool's share of one round.
@@ -225,11 +228,6 @@ def _chains(campaign: Campaign, tool: Any, round_no: int) -> None:
     runs = min(MAX_CHAIN_RUNS, int(runner.options.chain_runs * campaign.options.growth**round_no))
     runner.world.discover(runner)
     runner.world.chains(runner, runs=runs, steps=runner.options.chain_steps)
-
-
-#: the state is saved after every step, and also after this many calls or seconds within one
-SAVE_EVERY_CALLS = 2000
-SAVE_EVERY_SECONDS = 10.0
 
 
 class Campaign:
@@ -349,7 +347,7 @@ class Campaign:
         if now - self._clock > self.options.budget - self.used:
             raise _BudgetSpent()
         at, calls = self._saved_at
-        if self.calls - calls >= SAVE_EVERY_CALLS or now - at >= SAVE_EVERY_SECONDS:
+        if self.calls - calls >= self.options.save_every_calls or now - at >= self.options.save_every_seconds:
             self.save()  # inside the runner's held() block: the state and the call log agree
 
     # -- the run -------------------------------------------------------------------------------------

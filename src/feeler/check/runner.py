@@ -81,6 +81,8 @@ class RunOptions:
     example_db: Any = None
     #: only these tools (exact names; None: every tool include/exclude leave), e.g. one campaign shard
     only: list[str] | None = None
+    #: sessions calling sampled go cases side by side (server processes for stdio; feeler.check.parallel)
+    workers: int = 1
 
 
 @dataclass
@@ -237,6 +239,7 @@ class Runner:
         self.drawn_done = 0
         self.drawn_skip = 0
         self._schemas: dict[str, Any] = {}
+        self._workers: Any = None  # feeler.check.parallel.Workers, with --workers N
         self.redactor = self.options.redactor or redactor_for(target)
         self.settings = _with_target(self.options.settings, target, self.redactor)
 
@@ -251,6 +254,8 @@ class Runner:
         return self.session
 
     def close(self) -> None:
+        if self._workers is not None:
+            self._workers.close()
         if self.session is not None:
             self.session.close()
             self.session = None
@@ -524,7 +529,15 @@ class Runner:
 
     def _call_cases(self, tool: Tool, stats: ToolStats, cases: Iterable[Any]) -> Iterator[tuple[Any, list[str] | None]]:
         """Call each case in turn; yields ``(case, failed checks)``, ``None`` for the checks when the tool
-        cannot be called again (then it stops)."""
+        cannot be called again (then it stops). With ``workers`` > 1 the calls go out on several sessions
+        at once (:mod:`feeler.check.parallel`) and are judged here in the order the answers come."""
+        if self.options.workers > 1 and not self.options.dry_run:
+            if self._workers is None:
+                from feeler.check.parallel import Workers
+
+                self._workers = Workers(self, self.options.workers)
+            yield from self._workers.call_cases(tool, stats, cases)
+            return
         for case in cases:
             try:
                 failed = self._call_case(tool, stats, case, collect=True)
@@ -680,12 +693,7 @@ class Runner:
                 ctx.failure = exc
         except TargetError as exc:
             ctx.failure = exc
-        with held():  # a stop signal waits until the call is counted, judged and logged
-            self._count(stats, ctx)
-            self.world.after_call(tool, case, ctx, stats)
-            failed = self._evaluate(ctx)
-            if self.on_call is not None:
-                self.on_call(tool, case, ctx, failed)
+        failed = self._judge(tool, stats, case, ctx)
         self._calls_since_alive += 1
         alive_failed: list[str] = []
         self._unpinged = case
@@ -700,6 +708,16 @@ class Runner:
         if collect:
             return failed + alive_failed
         return stats.timeouts < self.options.max_timeouts_per_tool
+
+    def _judge(self, tool: Tool, stats: ToolStats, case: Any, ctx: CallContext) -> list[str]:
+        """Count, learn from, check and log one finished call; returns the checks that found an error."""
+        with held():  # a stop signal waits until the call is counted, judged and logged
+            self._count(stats, ctx)
+            self.world.after_call(tool, case, ctx, stats)
+            failed = self._evaluate(ctx)
+            if self.on_call is not None:
+                self.on_call(tool, case, ctx, failed)
+        return failed
 
     def _count(self, stats: ToolStats, ctx: CallContext) -> None:
         ex = ctx.exchange
