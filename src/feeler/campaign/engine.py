@@ -214,8 +214,11 @@ def _cases(campaign: Campaign, tool: Any, round_no: int) -> None:
     runner._drawn_go(tool, stats)
 
 
-#: chain runs per round grow like the drawn cases, up to this many
+#: chain runs per round grow like the sampled cases, up to this many
 MAX_CHAIN_RUNS = 400
+#: after round 0 the chains get about this share of a round's time at most (beyond the base chain_runs):
+#: a chain step goes through hypothesis' stateful engine and costs about twice a sampled case
+CHAIN_SHARE = 0.25
 
 
 @rotation_step("chains")
@@ -226,8 +229,14 @@ def _chains(campaign: Campaign, tool: Any, round_no: int) -> None:
     if campaign.position != len(campaign.tool_names) - 1 or runner.options.chain_runs <= 0:
         return
     runs = min(MAX_CHAIN_RUNS, int(runner.options.chain_runs * campaign.options.growth**round_no))
+    if campaign.chain_rate > 0:  # runs per second of the last chain phase: keep the chains to their share
+        allowed = CHAIN_SHARE / (1 - CHAIN_SHARE) * campaign.round_seconds.get("cases", 0.0) * campaign.chain_rate
+        runs = max(runner.options.chain_runs, min(runs, int(allowed)))
     runner.world.discover(runner)
+    started = time.monotonic()
     runner.world.chains(runner, runs=runs, steps=runner.options.chain_steps)
+    spent = time.monotonic() - started
+    campaign.chain_rate = runs / spent if spent > 0 else 0.0
 
 
 class Campaign:
@@ -253,6 +262,9 @@ class Campaign:
         self.tool_names: list[str] = []
         #: sampled go cases of the current step made before the interruption (skipped when it resumes)
         self.resume_skip = 0
+        #: seconds per rotation step in the current round, and chain runs per second of the last chain phase
+        self.round_seconds: dict[str, float] = {}
+        self.chain_rate = 0.0
         self._load()
         self.log = CallLog(self.log_path)
         self._extra_on_call = on_call
@@ -369,12 +381,15 @@ class Campaign:
                 name = self.tool_names[self.position]
                 tool = tools.get(name)
                 if tool is not None:
-                    for step in list(ROTATION.values()):
+                    for step_name, step in list(ROTATION.items()):
+                        started = time.monotonic()
                         step(self, tool, self.round)
+                        self.round_seconds[step_name] = self.round_seconds.get(step_name, 0.0) + time.monotonic() - started
                 self.position += 1
                 runner.drawn_done = 0
                 if self.position >= len(self.tool_names):
                     self.position, self.round = 0, self.round + 1
+                    self.round_seconds = {}
                 self.save()
         except _BudgetSpent:
             pass
