@@ -16,6 +16,7 @@ whose tools do not depend on state kept in one process, or for HTTP servers that
 from __future__ import annotations
 
 import queue
+import sys
 import threading
 from collections.abc import Iterable, Iterator
 from dataclasses import dataclass
@@ -194,8 +195,11 @@ class Workers:
             yield None, None  # no worker left: the tool cannot be called any more
         finally:
             stop.set()
-            exhausted = True
             for _ in threads:
                 jobs.put(_DONE)
+            # On a normal end wait for every worker (one may be inside a call until its timeout): worker 0
+            # drives the runner's session, which must be free again. When unwinding (a stop signal, the
+            # budget), wait briefly: the runner closes the sessions next, which ends the calls.
+            unwinding = sys.exc_info()[0] is not None
             for thread in threads:
-                thread.join(timeout=max(1.0, runner.options.alive_timeout))
+                thread.join(timeout=1.0 if unwinding else None)
