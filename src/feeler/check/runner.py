@@ -37,6 +37,10 @@ CASE_KINDS_RUN = ("catalog", "go", "no-go", "probe")
 SHRINK_SEARCH = 200
 #: saved failing examples (feeler's JSON ones) retried per tool before the sampled cases
 MAX_SAVED_RETRIED = 50
+#: sampled go cases drawn by hypothesis per tool and step: at least HYPOTHESIS_MIN (all of a check's
+#: default 20), else one in HYPOTHESIS_EVERY; the rest come from the fast sampler
+HYPOTHESIS_MIN = 20
+HYPOTHESIS_EVERY = 10
 _JSON_KEY = b".feeler-json"
 
 
@@ -499,21 +503,36 @@ class Runner:
             )  # fmt: skip
 
     def _drawn_go(self, tool: Tool, stats: ToolStats) -> None:
-        """Sampled go cases: the failing examples saved in the example database first, then the fast
-        sampler (:func:`feeler.generate.fast_go_cases`) in a plain loop. A case that fails a check this
-        tool has not failed before in this run is saved to the example database and handed to
-        hypothesis, which looks for the failure with its own strategy and shrinks it to the smallest
-        arguments (the smaller finding replaces the larger one). Hypothesis runs only then: its engine
-        costs more per case than the call itself against a fast server (bench/README.md)."""
+        """Sampled go cases: the failing examples saved in the example database first; then a share of the
+        cases drawn by hypothesis (:func:`hypothesis_share`: hypothesis' own saved examples, its drawing,
+        which reaches punctuation, empty and odd values the fast sampler seldom makes, and its shrinking);
+        then the rest from the fast sampler (:func:`feeler.generate.fast_go_cases`) in a plain loop. A
+        fast case that fails a check this tool has not failed before in this run is saved to the example
+        database and handed to hypothesis, which looks for the failure with its own strategy and shrinks it
+        to the smallest arguments (the smaller finding replaces the larger one). Hypothesis' engine costs
+        more per case than the call itself against a fast server (bench/README.md), hence the plain loop
+        for the bulk. A resumed step (``drawn_skip``) goes on in the fast part where it stopped."""
+        from hypothesis import Phase
+
         from feeler.generate import fast_go_cases
 
         if self.options.samples <= 0:
             return
-        if self.options.example_db is not None and not self._retry_saved(tool, stats):
+        skip, self.drawn_skip = self.drawn_skip, 0
+        self.drawn_done = 0
+        by_hypothesis = hypothesis_share(self.options.samples)
+        if not skip:
+            if self.options.example_db is not None and not self._retry_saved(tool, stats):
+                return
+            phases = [Phase.reuse] if self.options.example_db is not None else []
+            phases += [Phase.generate, Phase.shrink] if self.options.shrink else [Phase.generate]
+            if not self._hypothesis_go(tool, stats, phases, by_hypothesis):
+                return
+        if self.options.samples <= by_hypothesis:
             return
         ts = self.schema(tool)
-        cases = fast_go_cases(ts, self.options.samples, seed=self.options.sample_seed)
-        start, self.drawn_skip = min(self.drawn_skip, len(cases)), 0
+        cases = fast_go_cases(ts, self.options.samples - by_hypothesis, seed=self.options.sample_seed)
+        start = min(skip, len(cases))
         self.drawn_done = start
 
         def prepared() -> Iterator[Any]:
@@ -561,23 +580,21 @@ class Runner:
             self._hypothesis_go(tool, stats, [Phase.generate, Phase.shrink], min(SHRINK_SEARCH, max(self.options.samples, 50)))
 
     def _retry_saved(self, tool: Tool, stats: ToolStats) -> bool:
-        """The failing examples in the example database, retried first: those feeler saved as JSON
-        (dropped once they pass) and hypothesis' own (replayed and shrunk by hypothesis). False when the
-        tool cannot be called any more."""
-        from hypothesis import Phase
-
+        """The failing examples feeler saved as JSON in the example database, retried first (an entry
+        that passes is dropped); hypothesis' own saved examples are replayed by :meth:`_hypothesis_go`.
+        False when the tool cannot be called any more."""
         from feeler.generate import Case
 
         db = self.options.example_db
-        key = _database_key(tool)
+        key = _database_key(tool) + _JSON_KEY
         saved = []
-        for raw in db.fetch(key + _JSON_KEY):
+        for raw in db.fetch(key):
             if len(saved) >= MAX_SAVED_RETRIED:
                 break
             try:
                 saved.append((raw, json.loads(raw.decode("utf-8"))))
             except ValueError:
-                db.delete(key + _JSON_KEY, raw)
+                db.delete(key, raw)
         for raw, arguments in saved:
             case = Case("go", None, "$", "", arguments, None, "sampled", "saved failing example")
             try:
@@ -587,9 +604,7 @@ class Runner:
             if failed:
                 self._shrunk.setdefault(tool.name, set()).update(failed)
             else:
-                db.delete(key + _JSON_KEY, raw)  # fixed: not retried again
-        if next(iter(db.fetch(key)), None) is not None:
-            return self._hypothesis_go(tool, stats, [Phase.reuse, Phase.shrink], 1)
+                db.delete(key, raw)  # fixed: not retried again
         return True
 
     def _hypothesis_go(self, tool: Tool, stats: ToolStats, phases: list[Any], max_examples: int) -> bool:
@@ -816,6 +831,11 @@ class Runner:
         for finding in self.report.findings:
             if finding.request_text:
                 finding.replay = write_replay(self.options.replay_dir, self.target, finding, self.settings)
+
+
+def hypothesis_share(samples: int) -> int:
+    """How many of *samples* sampled go cases hypothesis draws (see HYPOTHESIS_MIN, HYPOTHESIS_EVERY)."""
+    return min(samples, max(HYPOTHESIS_MIN, samples // HYPOTHESIS_EVERY))
 
 
 #: durations kept per tool for the percentiles (the histogram counts every call)
