@@ -244,6 +244,7 @@ class Runner:
         self.drawn_skip = 0
         self._schemas: dict[str, Any] = {}
         self._workers: Any = None  # feeler.check.parallel.Workers, with --workers N
+        self._by_kind: dict[str, list[Check]] = {}
         self.redactor = self.options.redactor or redactor_for(target)
         self.settings = _with_target(self.options.settings, target, self.redactor)
 
@@ -770,7 +771,10 @@ class Runner:
         """Run every check (or those named in *only*) on *ctx*; record findings; return the names of
         checks that found an error."""
         failed: list[str] = []
-        for check in self.checks:
+        checks = self._by_kind.get(ctx.kind)
+        if checks is None:  # the checks that apply to this kind of call, in registry order (once per kind)
+            checks = self._by_kind[ctx.kind] = [c for c in self.checks if ctx.kind in c.applies_to]
+        for check in checks:
             if only is not None and check.name not in only:
                 continue
             for problem in check.run(ctx):
