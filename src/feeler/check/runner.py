@@ -1,9 +1,10 @@
 """Runs generated cases against a target and turns every answer into findings.
 
-Per tool: catalog checks, explicit boundary go cases, hypothesis-drawn go cases (shrunk on failure),
-no-go cases (one broken keyword each), then protocol probes. After each case the server's liveness is
-checked. A server that exits is restarted (a bounded number of times) so one crash does not hide the
-rest; a tool that hangs twice is not called again in that run.
+Per tool: catalog checks, explicit boundary go cases, sampled go cases (a share drawn by hypothesis, the
+rest by the fast sampler in a plain loop; a failure is shrunk by hypothesis), no-go cases (one broken
+keyword each), then protocol probes. Liveness is checked after a failure or a timeout and every
+``alive_every`` calls. A server that exits is restarted (a bounded number of times) so one crash does not
+hide the rest; a tool that hangs twice is not called again in that run.
 """
 
 from __future__ import annotations
