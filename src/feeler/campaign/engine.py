@@ -3,8 +3,8 @@
 Round 0 runs every case kind for each tool (catalog checks, boundary and sampled go cases, no-go cases,
 probes), like ``feeler check``; after the round's last tool come the chains (sequences of calls linked
 by returned values, :mod:`feeler.world`), growing like the sampled cases. Each later round samples more
-go cases per tool (``samples`` times ``growth`` per round, up to ``max_samples``) with a new seed, from
-the fast sampler in a plain loop; the example database (:mod:`feeler.campaign.database`) gives the
+go cases per tool (``samples`` times ``growth`` per round, up to ``max_samples``) with a new seed, 20 by
+hypothesis and the rest from the fast sampler in a plain loop; the example database (:mod:`feeler.campaign.database`) gives the
 failing examples of earlier runs first, and hypothesis shrinks a failure the run has not shrunk yet
 (:meth:`feeler.check.runner.Runner._drawn_go`). The steps of one rotation are the table :data:`ROTATION`
 (``cases``, then ``chains``): register another with :func:`rotation_step`.
