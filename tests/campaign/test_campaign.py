@@ -147,11 +147,11 @@ def _lines(path: Path) -> list[str]:
     return path.read_text(encoding="utf-8").splitlines() if path.exists() else []
 
 
-@pytest.mark.parametrize(("signum", "code"), [(signal.SIGTERM, 128 + signal.SIGTERM), (signal.SIGINT, 128 + signal.SIGINT)],
-                         ids=["SIGTERM", "SIGINT"])
+@pytest.mark.parametrize(("signum", "code"), [(signal.SIGTERM, 128 + signal.SIGTERM), (signal.SIGINT, 128 + signal.SIGINT),
+                                               (signal.SIGHUP, 128 + signal.SIGHUP)], ids=["SIGTERM", "SIGINT", "SIGHUP"])
 def test_interrupted_campaign_continues(several: Target, tmp_path: Path, signum: int, code: int) -> None:
-    """SIGTERM mid-run (as a cancelled CI job) or Ctrl-C, then a kill leaving half a line: nothing is lost.
-    The exit code is 128 + the signal (POSIX shells' convention; 130 for Ctrl-C)."""
+    """SIGTERM mid-run (as a cancelled CI job), Ctrl-C or SIGHUP, then a kill leaving half a line: nothing
+    is lost. The exit code is 128 + the signal (POSIX shells' convention; 130 for Ctrl-C, 129 for SIGHUP)."""
     folder = tmp_path / "campaign"
     argv = [
         sys.executable, "-c", "import sys; from feeler.cli import run; sys.exit(run(sys.argv[1:]))",
