@@ -1,11 +1,13 @@
-"""SIGTERM and SIGHUP end feeler the way Ctrl-C does: by unwinding, so every server it started is ended.
+"""SIGINT, SIGTERM and SIGHUP end feeler by unwinding, so every server it started is ended.
 
 Python's default for SIGTERM and SIGHUP is to die at once, skipping ``finally`` blocks and ``atexit``
 (Python docs, ``signal``: "SIGTERM ... default action"; POSIX: the default action terminates the
-process), which would leave stdio servers orphaned. :func:`install` replaces that default with a
-handler raising :class:`Stopped`, a :class:`KeyboardInterrupt`, so the CLI and pytest shut down as after
-Ctrl-C. A handler someone else installed is left alone. Further signals are ignored while the first
-one is being handled, so the bounded shutdown of the servers is not cut short.
+process), which would leave stdio servers orphaned. :func:`install` replaces that default (and
+Python's own SIGINT handler, which raises KeyboardInterrupt wherever the program is) with a handler
+raising :class:`Stopped`, a :class:`KeyboardInterrupt`, so the CLI and pytest shut down as after Ctrl-C;
+the exit code is ``128 + signal`` (130 for SIGINT, 143 for SIGTERM, 129 for SIGHUP). A handler someone
+else installed is left alone. Further signals are ignored while the first one is being handled, so the
+bounded shutdown of the servers is not cut short.
 
 Bookkeeping that must not be cut in half (a call counted but not yet written to the call log) runs
 inside :func:`held`: a stop signal arriving there is kept and raised when the block ends.
@@ -21,7 +23,7 @@ from typing import Any
 
 __all__ = ["Stopped", "held", "install"]
 
-_SIGNALS = tuple(getattr(signal, name) for name in ("SIGTERM", "SIGHUP") if hasattr(signal, name))
+_SIGNALS = tuple(getattr(signal, name) for name in ("SIGINT", "SIGTERM", "SIGHUP") if hasattr(signal, name))
 
 
 class Stopped(KeyboardInterrupt):
@@ -34,6 +36,11 @@ class Stopped(KeyboardInterrupt):
     @property
     def exit_code(self) -> int:
         return 128 + self.signum
+
+    @property
+    def said(self) -> str:
+        """How feeler tells it: ``interrupted`` for Ctrl-C, ``stopped by SIGTERM`` for the others."""
+        return "interrupted" if self.signum == getattr(signal, "SIGINT", None) else f"stopped by {self}"
 
 
 _holding = 0  # depth of held() blocks on the main thread (handlers run only there)
@@ -52,7 +59,7 @@ def _handler(signum: int, frame: Any) -> None:
 
 @contextmanager
 def held() -> Iterator[None]:
-    """Keep a SIGTERM/SIGHUP that arrives inside the block and raise it (as :class:`Stopped`) at its end.
+    """Keep a SIGINT/SIGTERM/SIGHUP that arrives inside the block and raise it (as :class:`Stopped`) at its end.
 
     For short bookkeeping only (counting a finished call and logging it): the block is not interrupted
     halfway, so counts and logs agree. Outside the main thread it does nothing (no handler runs there).
@@ -72,7 +79,8 @@ def held() -> Iterator[None]:
 
 
 def install() -> list[int]:
-    """Install the handler for SIGTERM and SIGHUP where the default action is still set.
+    """Install the handler for SIGINT, SIGTERM and SIGHUP where Python's default is still set (for
+    SIGINT: ``signal.default_int_handler``).
 
     Returns the signals it took over (none outside the main thread, where Python allows no handlers).
     """
@@ -80,7 +88,7 @@ def install() -> list[int]:
         return []
     taken = []
     for sig in _SIGNALS:
-        if signal.getsignal(sig) in (signal.SIG_DFL, None) or signal.getsignal(sig) is _handler:
+        if signal.getsignal(sig) in (signal.SIG_DFL, None, signal.default_int_handler) or signal.getsignal(sig) is _handler:
             signal.signal(sig, _handler)
             taken.append(sig)
     return taken

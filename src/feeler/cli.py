@@ -107,7 +107,7 @@ def run(argv: Sequence[str] | None = None) -> int:
         result = cli.main(args=list(argv) if argv is not None else None, prog_name="feeler", standalone_mode=False)
     except click.exceptions.Abort as exc:
         if isinstance(exc.__context__, _signals.Stopped):  # click turns KeyboardInterrupt into Abort
-            click.echo(f"feeler: stopped by {exc.__context__}; the servers it started were ended", err=True)
+            click.echo(f"feeler: {exc.__context__.said}; the servers it started were ended", err=True)
             return exc.__context__.exit_code
         if isinstance(exc.__context__, KeyboardInterrupt):
             click.echo("feeler: interrupted", err=True)
@@ -123,7 +123,7 @@ def run(argv: Sequence[str] | None = None) -> int:
         click.echo(f"feeler: {exc}", err=True)
         return EXIT_USAGE
     except _signals.Stopped as exc:
-        click.echo(f"feeler: stopped by {exc}; the servers it started were ended", err=True)
+        click.echo(f"feeler: {exc.said}; the servers it started were ended", err=True)
         return exc.exit_code
     except KeyboardInterrupt:
         click.echo("feeler: interrupted", err=True)

@@ -25,9 +25,9 @@ def _let_it_arrive() -> None:
 
 @pytest.fixture()
 def installed():
-    before = {sig: signal.getsignal(sig) for sig in (signal.SIGTERM, signal.SIGHUP)}
+    before = {sig: signal.getsignal(sig) for sig in (signal.SIGINT, signal.SIGTERM, signal.SIGHUP)}
     for sig in before:
-        signal.signal(sig, signal.SIG_DFL)
+        signal.signal(sig, signal.default_int_handler if sig == signal.SIGINT else signal.SIG_DFL)
     _signals.install()
     try:
         yield
@@ -64,3 +64,15 @@ def test_outside_held_the_signal_stops_at_once(installed: None) -> None:
         _let_it_arrive()
         steps.append("never")
     assert steps == []
+
+
+def test_ctrl_c_is_held_too(installed: None) -> None:
+    """SIGINT (Ctrl-C) waits like SIGTERM, and ends with the shell's 130 (128 + SIGINT; POSIX shells)."""
+    steps: list[str] = []
+    with pytest.raises(KeyboardInterrupt) as caught:
+        with _signals.held():
+            os.kill(os.getpid(), signal.SIGINT)
+            _let_it_arrive()
+            steps.append("counted")
+    assert steps == ["counted"]
+    assert isinstance(caught.value, _signals.Stopped) and caught.value.exit_code == 130

@@ -12,8 +12,10 @@ import copy
 import json
 from pathlib import Path
 from typing import Any
+from urllib.parse import unquote, urlsplit
 from xml.etree import ElementTree as ET
 
+import pytest
 from jsonschema import Draft4Validator
 
 from feeler.cli import run
@@ -35,7 +37,7 @@ def test_json_report_matches_its_schema(checked: dict[str, Any]) -> None:
     assert validate_report(doc) == []
     assert {t["name"] for t in doc["tools"]} == {"list_berths", "order_services"}
     assert doc["totals"]["findings"] == len(doc["findings"]) > 0
-    assert doc["totals"]["calls"] == sum(t["go"]["calls"] + t["noGo"]["calls"] for t in doc["tools"])
+    assert doc["totals"]["calls"] == sum(t["go"]["calls"] + t["noGo"]["calls"] + t["chainCalls"] for t in doc["tools"])
     # The validation can fail: a document without totals, or with an unknown severity, is refused.
     broken = copy.deepcopy(doc)
     del broken["totals"]
@@ -61,6 +63,25 @@ def test_sarif_matches_the_sarif_2_1_0_schema(checked: dict[str, Any]) -> None:
     assert len(results) == len(checked["doc"]["findings"])
     rules = sarif["runs"][0]["tool"]["driver"]["rules"]
     assert all(rules[r["ruleIndex"]]["id"] == r["ruleId"] for r in results)  # SARIF 3.27.6 ruleIndex
+    # A finding with a replay file is placed in that file (SARIF 3.29 physicalLocation, 3.4.3 uriBaseId).
+    by_signature = {f["signature"]: f for f in checked["doc"]["findings"]}
+    placed = 0
+    for result in results:
+        finding = by_signature[result["partialFingerprints"]["feelerSignature/v1"]]
+        physical = result["locations"][0].get("physicalLocation")
+        if finding.get("replay"):
+            placed += 1
+            artifact = physical["artifactLocation"]
+            if artifact.get("uriBaseId") == "%SRCROOT%":  # a replay folder inside the project
+                where = Path.cwd() / unquote(artifact["uri"])
+            else:  # elsewhere (this fixture's tmp folder): an absolute file URI (RFC 8089)
+                assert urlsplit(artifact["uri"]).scheme == "file"
+                where = Path(unquote(urlsplit(artifact["uri"]).path))
+            assert where.resolve() == Path(finding["replay"]).resolve() and where.is_file()
+            assert physical["region"]["startLine"] == 1
+        else:
+            assert physical is None  # nothing to point at: the logical location alone
+    assert placed
     # The validator is not blind: a result with an unknown level is refused.
     sarif["runs"][0]["results"][0]["level"] = "fatal"
     assert list(Draft4Validator(schema).iter_errors(sarif))
@@ -78,6 +99,17 @@ def test_junit_fails_exactly_the_cases_with_errors(checked: dict[str, Any]) -> N
             if case.find("failure") is not None:
                 seen.add((tool, case.get("name")))
     assert seen == failing and failing
+    # time is elapsed seconds (common practice: the testcase's run time): a go testcase's is the time of
+    # the tool's go calls, the suite's the sum of its testcases, the root's the whole run.
+    tools = {t["name"]: t for t in doc["tools"]}
+    for suite in root.iter("testsuite"):
+        cases = {c.get("name"): c for c in suite.iter("testcase")}
+        if suite.get("name") in tools and "go" in cases:
+            spent = tools[suite.get("name")]["elapsedSeconds"]["go"]
+            assert float(cases["go"].get("time")) == pytest.approx(spent, abs=1e-6) and spent > 0
+            assert spent < doc["durationSeconds"]
+        assert float(suite.get("time")) == pytest.approx(sum(float(c.get("time") or 0) for c in cases.values()), abs=1e-5)
+    assert float(root.get("time")) == pytest.approx(doc["durationSeconds"], abs=1e-3)
     assert int(root.get("failures", "0")) == len(failing)
 
 
@@ -124,3 +156,19 @@ def test_merge_joins_parts(checked: dict[str, Any], tmp_path: Path) -> None:
     out = tmp_path / "merged"
     assert run(["report", "merge", *files, "--report-dir", str(out), "--report-format", "json"]) == 1
     assert validate_report(json.loads((out / "feeler-report.json").read_text(encoding="utf-8"))) == []
+
+
+def test_merge_keeps_the_campaign_block(checked: dict[str, Any]) -> None:
+    """Shards of one campaign merge into one campaign summary: the longest budget, the rounds all finished."""
+    parts = []
+    for index, (budget, rounds) in enumerate(((60.0, 4), (60.0, 3)), start=1):
+        part = copy.deepcopy(checked["doc"])
+        part.update(command="campaign", shard={"index": index, "count": 2})
+        part["campaign"] = {"budgetSeconds": budget, "rounds": rounds, "resumed": index - 1,
+                            "callLog": f".feeler/campaigns/x-shard-{index}-of-2/calls.jsonl", "exampleDatabase": ".feeler/examples"}
+        parts.append(part)
+    merged = merge_reports(parts)
+    assert validate_report(merged) == []
+    assert merged["campaign"] == {"budgetSeconds": 60.0, "rounds": 3, "resumed": 1, "callLog": None,
+                                  "exampleDatabase": ".feeler/examples"}
+    assert "campaign" not in merge_reports([checked["doc"]])  # a check has none

@@ -3,7 +3,6 @@
 from __future__ import annotations
 
 import os
-import signal
 import sys
 import time
 from typing import Any
@@ -54,20 +53,20 @@ class _Progress:
         )
 
 
-def _terminate(_signum: int, _frame: Any) -> None:
-    raise KeyboardInterrupt  # SIGTERM (a CI job cancelled) saves the state like Ctrl-C
-
-
 @click.command("campaign")
 @target_options
 @click.option("--budget", required=True, metavar="DURATION", help="Time for the whole campaign: 90s, 15m, 2h, 1h30m.")
-@click.option("--shard", default=None, metavar="i/n", help="Run only shard i of n (tools split by name; every tool in one shard).")
+@click.option("--shard", default=None, metavar="i/n",
+              help="Run only shard i of n (every tool in one shard; tools that depend on each other together).")
 @click.option("--samples", type=click.IntRange(min=1), default=None, help="Sampled go cases per tool in the first round (doubles each round) [20].")
 @renamed_option("--go-examples", "--samples", "samples", type=click.IntRange(min=1))
 @click.option("--max-samples", type=click.IntRange(min=1), default=2000, show_default=True, help="Most sampled go cases per tool in one round.")
 @click.option("--example-db", default=None, metavar="DIR|redis://HOST:PORT/N|none",
               help="hypothesis example database: failing examples are retried first next time [.feeler/examples].")
 @click.option("--folder", default=None, metavar="DIR", help="Campaign folder: state and call log [.feeler/campaigns/TARGET[-shard-i-of-n]].")
+@click.option("--workers", type=click.IntRange(min=1, max=64), default=1, show_default=True,
+              help="Sessions calling sampled go cases side by side: server processes for a stdio target (each "
+                   "with its own state), concurrent sessions for HTTP.")
 @click.option("--fresh", is_flag=True, help="Start afresh even if an interrupted campaign can be continued.")
 @click.option("--sample-seed", "seed", type=int, default=None, help="Sample seed of the first round (round r uses seed + r) [0].")
 @renamed_option("--seed", "--sample-seed", "seed", type=int)
@@ -81,7 +80,8 @@ def campaign(**kwargs: Any) -> int:
 
     An interrupted campaign (Ctrl-C, SIGTERM, a kill) continues where it stopped when started again with
     the same TARGET and --shard. Exit code 0: nothing found; 1: findings; 2: usage or connection error;
-    130: interrupted (the state is saved). Never point feeler at a production system.
+    128 + the signal (130 for Ctrl-C, 143 for SIGTERM, 129 for SIGHUP): interrupted, the state is saved.
+    Never point feeler at a production system.
     """
     from feeler.campaign.database import DEFAULT_EXAMPLE_DB, open_example_db
     from feeler.campaign.engine import Campaign, CampaignOptions, parse_duration, parse_shard
@@ -108,6 +108,7 @@ def campaign(**kwargs: Any) -> int:
         sample_seed=kwargs["seed"], samples=kwargs["samples"], include=list(kwargs["include"]),
         exclude=list(kwargs["exclude"]), allow_destructive=kwargs["allow_destructive"], replay_dir=kwargs["replay_dir"],
         settings=CheckSettings(**audit_settings(config)), redactor=redactor_for(opts.target, config.values),
+        workers=kwargs["workers"],
     )  # fmt: skip
     camp_options = CampaignOptions(
         budget=budget, folder=folder, shard=shard, samples=kwargs["samples"], max_samples=kwargs["max_samples"],
@@ -119,19 +120,18 @@ def campaign(**kwargs: Any) -> int:
     camp = Campaign(runner, camp_options, on_call=progress.update if progress else None)
     if camp.resumed:
         click.echo(f"feeler: continuing the campaign in {folder} (round {camp.round}, {camp.used:.0f}s used)", err=True)
-    previous = signal.signal(signal.SIGTERM, _terminate)
-    interrupted = False
+    # SIGINT, SIGTERM (a CI job cancelled) and SIGHUP unwind through feeler._signals (installed by the
+    # CLI): a stop waits while a finished call is counted and logged, then the state is saved.
+    interrupted: int | None = None
     try:
         if progress:
             with progress:
                 report = camp.run()
         else:
             report = camp.run()
-    except KeyboardInterrupt:
-        interrupted = True
+    except KeyboardInterrupt as exc:
+        interrupted = getattr(exc, "exit_code", 130)
         report = runner.report
-    finally:
-        signal.signal(signal.SIGTERM, previous)
     doc = build_report(
         report, command="campaign", started_at=camp.started_at or started, duration=camp.elapsed(),
         shard=shard, campaign=camp.summary(),
@@ -141,7 +141,7 @@ def campaign(**kwargs: Any) -> int:
     from feeler.report import render
 
     click.echo(render(doc, "markdown"), nl=False)
-    if interrupted:
+    if interrupted is not None:
         click.echo(f"feeler: interrupted; the state is saved in {folder}: run the same command to continue", err=True)
-        return 130
+        return interrupted
     return 1 if doc["totals"]["errors"] else 0

@@ -1,16 +1,25 @@
-"""The campaign engine: rotate through the tools for a time budget, growing the drawn cases each round.
+"""The campaign engine: rotate through the tools for a time budget, growing the sampled cases each round.
 
-Round 0 runs every case kind for each tool (catalog checks, boundary and drawn go cases, no-go cases,
+Round 0 runs every case kind for each tool (catalog checks, boundary and sampled go cases, no-go cases,
 probes), like ``feeler check``; after the round's last tool come the chains (sequences of calls linked
-by returned values, :mod:`feeler.world`), growing like the drawn cases. Each later round draws more go cases per tool (``samples`` times
-``growth`` per round, up to ``max_samples``) with a new seed, through hypothesis, whose example database
-(:mod:`feeler.campaign.database`) replays earlier failing examples first. The steps of one rotation are
-the table :data:`ROTATION` (``cases``, then ``chains``): register another with :func:`rotation_step`.
+by returned values, :mod:`feeler.world`), growing like the sampled cases. Each later round samples more
+go cases per tool (``samples`` times ``growth`` per round, up to ``max_samples``) with a new seed, 20 by
+hypothesis and the rest from the fast sampler in a plain loop; the example database (:mod:`feeler.campaign.database`) gives the
+failing examples of earlier runs first, and hypothesis shrinks a failure the run has not shrunk yet
+(:meth:`feeler.check.runner.Runner._drawn_go`). The steps of one rotation are the table :data:`ROTATION`
+(``cases``, then ``chains``): register another with :func:`rotation_step`.
 
-After every step the state (round, position, time used, findings, counters) is written atomically to
-``state.json`` in the campaign folder, next to the call log ``calls.jsonl``. Started again after an
-interruption, the campaign continues from that step with the findings it had; the time budget counts
-the time of every start. A finished campaign starts afresh next time (the example database stays).
+With ``--shard i/n`` the tools are split in groups: tools that depend on each other (an identifier-like
+input of one is related to an output of another, :func:`tool_groups`) stay in one shard, so every shard
+can make the values its tools need and run its own chains. A shard calls and reports only its tools.
+
+The state (round, position, sampled cases done in the current step, time used, findings, counters) is
+written atomically to ``state.json`` in the campaign folder, next to the call log ``calls.jsonl``, after
+every step and every ``save_every_calls`` calls or ``save_every_seconds`` seconds (CampaignOptions). Started
+again after an interruption, the campaign continues from that step, skipping the sampled cases already
+made (round 0 of the interrupted tool is made again: its calls are counted again, as the call log
+records them); the time budget counts the time of every start. A finished campaign starts afresh next
+time (the example database stays). A campaign that never reached the server leaves no state behind.
 """
 
 from __future__ import annotations
@@ -56,14 +65,96 @@ def parse_shard(text: str | None) -> tuple[int, int] | None:
     return int(match.group(1)), int(match.group(2))
 
 
-def shard_tools(names: list[str], shard: tuple[int, int] | None) -> list[str]:
-    """The tools of one shard: sorted by name, the k-th (0-based) goes to shard ``k % n + 1``. Every tool
+def _outputs(tool: Any) -> list[tuple[str, frozenset[str]]]:
+    """Property names in *tool*'s output schema, each with the context nouns of where it sits."""
+    from feeler.world.names import nouns
+
+    out: list[tuple[str, frozenset[str]]] = []
+
+    def walk(schema: Any, context: frozenset[str], depth: int) -> None:
+        if depth > 12 or len(out) > 500:
+            return
+        if isinstance(schema, list):
+            for item in schema:
+                walk(item, context, depth + 1)
+            return
+        if not isinstance(schema, dict):
+            return
+        props = schema.get("properties")
+        if isinstance(props, dict):
+            for name, sub in props.items():
+                if isinstance(name, str):
+                    out.append((name, context))
+                    walk(sub, context | nouns(name), depth + 1)
+        for key, value in schema.items():
+            if key != "properties" and isinstance(value, (dict, list)):
+                walk(value, context, depth + 1)
+
+    walk(tool.output_schema, nouns(tool.name), 0)
+    return out
+
+
+def _consumes(taker: Any, giver: Any) -> bool:
+    """True when an identifier-like input of *taker* may be filled by what *giver* returns: a property of
+    the giver's output schema with a related name (:func:`feeler.world.names.related`, the rule the
+    learning uses), or, with no output schema, an identifier about the giver's nouns
+    (``create_record`` -> ``record_id``)."""
+    from feeler.world.learn import _property_names
+    from feeler.world.names import ID_WORDS, identifier_like, nouns, related
+
+    wanted = [name for name in dict.fromkeys(_property_names(taker.input_schema)) if identifier_like(name)]
+    if not wanted:
+        return False
+    taker_nouns = nouns(taker.name)
+    if isinstance(giver.output_schema, dict):
+        found = _outputs(giver)
+    else:
+        giver_nouns = nouns(giver.name)
+        found = [(word, giver_nouns) for word in (*sorted(ID_WORDS), *sorted(giver_nouns))]
+    return any(related(name, o, ctx, taker_nouns) for name in wanted for o, ctx in found)
+
+
+def tool_groups(tools: list[Any]) -> list[list[str]]:
+    """*tools* in groups of tools that depend on each other (directly or through others), each group
+    sorted by name, the groups by their first name."""
+    names = sorted(t.name for t in tools)
+    parent = {name: name for name in names}
+
+    def root(name: str) -> str:
+        while parent[name] != name:
+            parent[name] = parent[parent[name]]
+            name = parent[name]
+        return name
+
+    for taker in tools:
+        for giver in tools:
+            if taker.name != giver.name and root(taker.name) != root(giver.name) and _consumes(taker, giver):
+                parent[root(taker.name)] = root(giver.name)
+    groups: dict[str, list[str]] = {}
+    for name in names:
+        groups.setdefault(root(name), []).append(name)
+    return sorted(groups.values())
+
+
+def shard_tools(tools: list[Any], shard: tuple[int, int] | None) -> list[str]:
+    """The tool names of one shard. *tools* are catalog tools (or bare names, which depend on nothing).
+
+    Tools that depend on each other (:func:`tool_groups`) stay together; the groups, largest first (then
+    by name), each go to the shard with the fewest tools so far (the lowest index on a tie). Every tool
     is in exactly one shard, whatever order the server lists them in."""
-    ordered = sorted(names)
     if shard is None:
-        return ordered
+        return sorted(t if isinstance(t, str) else t.name for t in tools)
+    objects = [t for t in tools if not isinstance(t, str)]
+    groups = tool_groups(objects) + [[t] for t in tools if isinstance(t, str)]
     index, count = shard
-    return [name for k, name in enumerate(ordered) if k % count == index - 1]
+    load = [0] * count
+    mine: list[str] = []
+    for group in sorted(groups, key=lambda g: (-len(g), g)):
+        target = min(range(count), key=lambda k: (load[k], k))
+        load[target] += len(group)
+        if target == index - 1:
+            mine += group
+    return sorted(mine)
 
 
 @dataclass
@@ -86,6 +177,9 @@ class CampaignOptions:
     example_db: Any = None
     example_db_name: str | None = None
     fresh: bool = False
+    #: the state is also saved after this many calls or seconds within a step (bounded cost; a kill loses less)
+    save_every_calls: int = 2000
+    save_every_seconds: float = 10.0
 
 
 #: A rotation step: ``step(campaign, tool, round)`` runs one tool's share of one round.
@@ -105,7 +199,7 @@ def rotation_step(name: str) -> Callable[[RotationStep], RotationStep]:
 
 @rotation_step("cases")
 def _cases(campaign: Campaign, tool: Any, round_no: int) -> None:
-    """Round 0: every case kind, as ``feeler check``; later rounds: more drawn go cases, a new seed."""
+    """Round 0: every case kind, as ``feeler check``; later rounds: more sampled go cases, a new seed."""
     runner = campaign.runner
     if round_no == 0:
         runner.options.samples = campaign.options.samples
@@ -114,29 +208,35 @@ def _cases(campaign: Campaign, tool: Any, round_no: int) -> None:
     stats = runner.stats(tool)
     if stats.skipped or stats.schema_problem or runner.skip_reason(tool) or stats.timeouts >= runner.options.max_timeouts_per_tool:
         return
-    from feeler.generate import arguments
-
     runner.options.samples = campaign.samples_for(round_no)
     runner.options.sample_seed = campaign.options.seed + round_no
-    runner._drawn_go(tool, stats, arguments(tool.input_schema))
+    runner.drawn_skip, campaign.resume_skip = campaign.resume_skip, 0
+    runner._drawn_go(tool, stats)
 
 
-#: chain runs per round grow like the drawn cases, up to this many
+#: chain runs per round grow like the sampled cases, up to this many
 MAX_CHAIN_RUNS = 400
+#: after round 0 the chains get about this share of a round's time at most (beyond the base chain_runs):
+#: a chain step goes through hypothesis' stateful engine and costs about twice a sampled case
+CHAIN_SHARE = 0.25
 
 
 @rotation_step("chains")
 def _chains(campaign: Campaign, tool: Any, round_no: int) -> None:
-    """Once per round, after its last tool: chains of calls linked by returned values (feeler.world).
-    Chains cross tools, so with --shard only shard 1 runs them."""
+    """Once per round, after its last tool: chains of calls linked by returned values (feeler.world),
+    over the campaign's tools (a shard keeps the tools that depend on each other together)."""
     runner = campaign.runner
     if campaign.position != len(campaign.tool_names) - 1 or runner.options.chain_runs <= 0:
         return
-    if campaign.options.shard is not None and campaign.options.shard[0] != 1:
-        return
     runs = min(MAX_CHAIN_RUNS, int(runner.options.chain_runs * campaign.options.growth**round_no))
+    if campaign.chain_rate > 0:  # runs per second of the last chain phase: keep the chains to their share
+        allowed = CHAIN_SHARE / (1 - CHAIN_SHARE) * campaign.round_seconds.get("cases", 0.0) * campaign.chain_rate
+        runs = max(runner.options.chain_runs, min(runs, int(allowed)))
     runner.world.discover(runner)
+    started = time.monotonic()
     runner.world.chains(runner, runs=runs, steps=runner.options.chain_steps)
+    spent = time.monotonic() - started
+    campaign.chain_rate = runs / spent if spent > 0 else 0.0
 
 
 class Campaign:
@@ -160,11 +260,18 @@ class Campaign:
         self.calls = 0
         self.started_at: str | None = None
         self.tool_names: list[str] = []
+        #: sampled go cases of the current step made before the interruption (skipped when it resumes)
+        self.resume_skip = 0
+        #: seconds per rotation step in the current round, and chain runs per second of the last chain phase
+        self.round_seconds: dict[str, float] = {}
+        self.chain_rate = 0.0
         self._load()
         self._made = _missing_folders(options.folder)  # removed again if nothing is done
         self.log = CallLog(self.log_path)
         self._extra_on_call = on_call
         self._clock = time.monotonic()
+        self._saved_at = (self._clock, self.calls)
+        self._reached = False  # the server answered this start (else no state is left behind)
         runner.on_call = self._on_call
 
     # -- state ---------------------------------------------------------------------------------------
@@ -185,6 +292,7 @@ class Campaign:
         self.resumed = state["resumed"] + 1
         self.started_at = state["startedAt"]
         self.tool_names = state["tools"]
+        self.resume_skip = state.get("stepSampled", 0) if self.round > 0 else 0
         self.runner.report.restarts = state.get("restarts", 0)
         names = {f.name for f in dataclasses.fields(Finding)}
         for data in state["findings"]:
@@ -211,6 +319,7 @@ class Campaign:
             "startedAt": self.started_at,
             "round": self.round,
             "position": self.position,
+            "stepSampled": runner.drawn_done if self.round > 0 else 0,
             "used": round(self.elapsed(), 3),
             "calls": self.calls,
             "resumed": self.resumed,
@@ -221,6 +330,7 @@ class Campaign:
             "stats": [_stats_data(s) for s in runner.report.tools.values()],
         }
         write_text_atomic(self.state_path, json.dumps(state, ensure_ascii=False, default=str) + "\n")
+        self._saved_at = (time.monotonic(), self.calls)
 
     # -- time and growth -----------------------------------------------------------------------------
     def elapsed(self) -> float:
@@ -235,7 +345,7 @@ class Campaign:
         return self.log.lines / spent if spent > 0 else 0.0
 
     def samples_for(self, round_no: int) -> int:
-        """Drawn go cases for one tool in *round_no*: grown, capped, and small enough for the time left."""
+        """Sampled go cases for one tool in *round_no*: grown, capped, and small enough for the time left."""
         grown = min(self.options.max_samples, int(self.options.samples * self.options.growth**round_no))
         rate = self.rate()
         tools = max(1, len(self.tool_names))
@@ -248,8 +358,12 @@ class Campaign:
         self.calls += 1
         if self._extra_on_call is not None:
             self._extra_on_call(self)
-        if self.remaining() <= 0:
+        now = time.monotonic()
+        if now - self._clock > self.options.budget - self.used:
             raise _BudgetSpent()
+        at, calls = self._saved_at
+        if self.calls - calls >= self.options.save_every_calls or now - at >= self.options.save_every_seconds:
+            self.save()  # inside the runner's held() block: the state and the call log agree
 
     # -- the run -------------------------------------------------------------------------------------
     def run(self) -> Any:
@@ -258,19 +372,27 @@ class Campaign:
         runner = self.runner
         try:
             runner.open()
-            tools = {t.name: t for t in runner.tools()}
+            self._reached = True
             if not self.tool_names:
-                self.tool_names = shard_tools(list(tools), self.options.shard)
-                self.save()
+                self.tool_names = shard_tools(runner.tools(), self.options.shard)
+            runner.options.only = list(self.tool_names)
+            if self.options.shard is not None and self.options.shard[0] != 1:
+                runner.report.tools_audited = True  # catalog-wide checks: shard 1 reports them
+            tools = {t.name: t for t in runner.tools()}
+            self.save()
             while self.remaining() > 0 and self.tool_names:
                 name = self.tool_names[self.position]
                 tool = tools.get(name)
                 if tool is not None:
-                    for step in list(ROTATION.values()):
+                    for step_name, step in list(ROTATION.items()):
+                        started = time.monotonic()
                         step(self, tool, self.round)
+                        self.round_seconds[step_name] = self.round_seconds.get(step_name, 0.0) + time.monotonic() - started
                 self.position += 1
+                runner.drawn_done = 0
                 if self.position >= len(self.tool_names):
                     self.position, self.round = 0, self.round + 1
+                    self.round_seconds = {}
                 self.save()
         except _BudgetSpent:
             pass
@@ -286,9 +408,9 @@ class Campaign:
         finally:
             self.runner.write_replays()
             self.log.close()
-            if self.tool_names or self.resumed:
+            if self._reached or self.resumed:
                 self.save(done=done)
-            else:  # nothing was done (the server could not be reached): leave no campaign behind
+            else:  # the server was never reached: nothing to continue next time, no campaign left behind
                 self._forget()
 
     def _forget(self) -> None:
@@ -303,12 +425,14 @@ class Campaign:
 
     def summary(self) -> dict[str, Any]:
         """The ``campaign`` object of the report document."""
+        from feeler.campaign.database import redact_url
+
         return {
             "budgetSeconds": self.options.budget,
             "rounds": self.round,
             "resumed": self.resumed,
             "callLog": self.log_path,
-            "exampleDatabase": self.options.example_db_name,
+            "exampleDatabase": redact_url(self.options.example_db_name) if self.options.example_db_name else None,
         }
 
 
@@ -358,11 +482,16 @@ _COUNTERS = {
 }  # fmt: skip
 
 
+#: case kinds -> their camelCase key in the state (``ToolStats.seconds`` is keyed by case kind)
+_KIND_KEYS = {"no-go": "noGo"}
+
+
 def _stats_data(stats: Any) -> dict[str, Any]:
     skip = (*_STATS_SKIP, *_COUNTERS)
     data = {_camel(f.name): getattr(stats, f.name) for f in dataclasses.fields(stats) if f.name not in skip}
     data.update(stats.counters())
     data["durations"] = stats.durations[-_STATE_DURATIONS:]
+    data["seconds"] = {_KIND_KEYS.get(kind, kind): value for kind, value in stats.seconds.items()}
     data["coverage"] = [{"keywordLocation": f"{c.schema_path}/{c.keyword}", "keyword": c.keyword, "go": c.go,
                          "noGo": c.nogo, "reason": c.reason} for c in stats.coverage]  # fmt: skip
     return data
@@ -385,6 +514,8 @@ def _stats_from(data: dict[str, Any]) -> Any:
         if isinstance(data.get(_snake(group)), dict):
             data[field_name] = data[_snake(group)].get(key, 0)
     coverage = [_coverage_from(c) for c in data.pop("coverage", [])]
+    kinds = {key: kind for kind, key in _KIND_KEYS.items()}
+    data["seconds"] = {kinds.get(key, key): value for key, value in (data.get("seconds") or {}).items()}
     names = {f.name for f in dataclasses.fields(ToolStats)}
     stats = ToolStats(**{k: v for k, v in data.items() if k in names})
     stats.coverage = coverage

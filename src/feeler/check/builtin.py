@@ -6,6 +6,7 @@ specification revision pages named in each docstring.
 
 from __future__ import annotations
 
+import functools
 import json
 import re
 import typing
@@ -103,24 +104,48 @@ def envelope(ctx: CallContext) -> Iterator[Problem]:
 # -- result shape ---------------------------------------------------------------------------------
 
 
-def _shape_errors(method: str, revision: str, result: Any) -> list[str]:
+@functools.lru_cache(maxsize=64)
+def _shape_validator(method: str, revision: str) -> Any:
+    """The pydantic validator of *method*'s result at *revision* (mcp-types' surface), built once; None
+    when mcp-types does not cover the pair (nothing to compare with)."""
     from mcp_types import methods  # the reference for message shapes, per revision
-    from pydantic import ValidationError
+    from pydantic import TypeAdapter
 
     surface = methods.SERVER_RESULTS.get((method, revision))
-    members = typing.get_args(surface) if surface is not None else ()
-    if members and not (isinstance(result, dict) and result.get("resultType") == "input_required"):
-        # mcp-types' 2026 surface is CallToolResult | InputRequiredResult, and InputRequiredResult (all fields
-        # optional, extra ignored) takes any object: a final result must match the non-interim members alone.
-        final = [m for m in members if getattr(m, "__name__", "") != "InputRequiredResult"]
-        if final and len(final) < len(members):
-            surface = final[0] if len(final) == 1 else typing.Union[tuple(final)]  # noqa: UP007
+    if surface is None:
+        return None
+    members = typing.get_args(surface)
+    final = [m for m in members if getattr(m, "__name__", "") != "InputRequiredResult"]
+    # mcp-types' 2026 surface is CallToolResult | InputRequiredResult, and InputRequiredResult (all fields
+    # optional, extra ignored) takes any object: a final result must match the non-interim members alone.
+    if members and final and len(final) < len(members):
+        surface = final[0] if len(final) == 1 else typing.Union[tuple(final)]  # noqa: UP007
+    return TypeAdapter(surface)
+
+
+def _shape_errors(method: str, revision: str, result: Any) -> list[str]:
+    from pydantic import ValidationError
+
+    if isinstance(result, dict) and result.get("resultType") == "input_required":
+        from mcp_types import methods
+
+        surface = methods.SERVER_RESULTS.get((method, revision))
+        if surface is None:
+            return []
+        try:
+            methods.validate_server_result(method, revision, result)
+        except ValidationError as exc:
+            return [f"{'.'.join(str(p) for p in e['loc'])}: {e['msg']}" for e in exc.errors()[:3]]
+        except (KeyError, ValueError):
+            return []
+        return []
+    validator = _shape_validator(method, revision)
+    if validator is None:
+        return []
     try:
-        methods.validate_server_result(method, revision, result, surface={(method, revision): surface} if surface is not None else methods.SERVER_RESULTS)
+        validator.validate_python(result, by_name=False)
     except ValidationError as exc:
         return [f"{'.'.join(str(p) for p in e['loc'])}: {e['msg']}" for e in exc.errors()[:3]]
-    except (KeyError, ValueError):
-        return []  # a method or revision mcp-types does not cover: nothing to compare with
     return []
 
 

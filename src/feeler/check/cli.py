@@ -78,6 +78,8 @@ def _list_checks(ctx: click.Context, _param: click.Parameter, value: bool) -> No
 @renamed_option("--check", "--only-check", "only_checks", multiple=True)
 @click.option("--skip-check", "skip_checks", multiple=True, metavar="NAME", help="Do not run this check (repeatable).")
 @click.option("--no-probes", is_flag=True, help="Do not send protocol-level no-go requests.")
+@click.option("--workers", type=click.IntRange(min=1, max=64), default=1, show_default=True,
+              help="Sessions calling sampled go cases side by side (server processes for stdio, sessions for HTTP).")
 @click.option("--dry-run", is_flag=True,
               help="Print the calls the run would make as JSON Lines (those that depend on answers say so); call no tool.")
 @click.option("--every-protocol-version", "every_revision", is_flag=True,
@@ -136,6 +138,7 @@ def check(**kwargs: Any) -> int:
         learn=not kwargs["no_learn"] and bool(config.get("learn", True)),
         chain_runs=kwargs["chain_runs"] if kwargs["chain_runs"] is not None else config.get("chain_runs", 20),
         chain_steps=kwargs["chain_steps"] if kwargs["chain_steps"] is not None else config.get("chain_steps", 8),
+        workers=kwargs["workers"],
     )
     progress = (lambda line: click.echo(line, err=True)) if sys.stderr.isatty() or fmt == "text" else None
     if every:

@@ -24,13 +24,29 @@ PROBE_TIMEOUT = 3.0
 #: Seconds for probes that many servers leave unanswered (tolerated silence): a short, separate wait, so
 #: that silence costs little; an answer from a clean server comes at once on loopback (common practice).
 SILENT_PROBE_TIMEOUT = 0.75
+#: The shortest such wait, and how many times the tool's slowest usual answer (p95) it lasts: a server
+#: that answers a probe at all does so about as fast as it answers a call (common practice).
+SILENT_PROBE_FLOOR = 0.1
+SILENT_PROBE_FACTOR = 10
 #: Codes a 2026-07-28 HTTP server may answer with before it reads the body (MCP 2026-07-28 streamable-http).
 _HTTP_HEADER_CODES = (-32020,)
+
+
+def silence_wait(stats: ToolStats) -> float:
+    """How long a probe that may rightly get no answer waits: SILENT_PROBE_FACTOR times the p95 of the
+    tool's answered calls so far, between SILENT_PROBE_FLOOR and SILENT_PROBE_TIMEOUT (the ceiling, also
+    used before any call was answered)."""
+    if not stats.durations:
+        return SILENT_PROBE_TIMEOUT
+    ordered = sorted(stats.durations)
+    p95 = ordered[min(len(ordered) - 1, int(0.95 * len(ordered)))]
+    return min(SILENT_PROBE_TIMEOUT, max(SILENT_PROBE_FLOOR, SILENT_PROBE_FACTOR * p95))
 
 
 def run_probes(runner: Runner, tool: Tool, stats: ToolStats) -> None:
     from feeler.generate import protocol_probes
 
+    silent = silence_wait(stats)
     session = runner.open()
     meta = session.meta() if session.era == "stateless" else None
     for probe in protocol_probes(runner.revision, tool.name, meta):
@@ -46,8 +62,9 @@ def run_probes(runner: Runner, tool: Tool, stats: ToolStats) -> None:
         ctx = CallContext("probe", tool if per_tool else None, runner.revision, runner.era, runner.settings, case=probe)
         try:
             session = runner.open()
-            wait = SILENT_PROBE_TIMEOUT if probe.silence_ok or probe.name in _SILENCE_TOLERATED else PROBE_TIMEOUT
-            ctx.exchange = session.send_raw(probe.text, expect_answer=probe.expects_answer, timeout=min(session.request_timeout, wait))
+            wait = silent if probe.silence_ok or probe.name in _SILENCE_TOLERATED else PROBE_TIMEOUT
+            ctx.exchange = session.send_raw(probe.text, expect_answer=probe.expects_answer,
+                                            timeout=min(session.request_timeout, wait), grace=silent)
         except RequestTimeout as exc:
             ctx.failure = exc
         except ServerExited as exc:

@@ -18,7 +18,7 @@ Users add checks with :func:`register`::
 from __future__ import annotations
 
 from collections.abc import Callable, Iterator
-from dataclasses import dataclass, field
+from dataclasses import dataclass, field, replace
 from typing import Any
 
 from feeler.catalog import Tool
@@ -121,8 +121,6 @@ class Check:
     def run(self, ctx: CallContext) -> list[Problem]:
         if ctx.kind not in self.applies_to:
             return []
-        from dataclasses import replace
-
         return [p if p.severity else replace(p, severity=self.severity) for p in self.func(ctx)]
 
 

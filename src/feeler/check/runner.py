@@ -1,17 +1,20 @@
 """Runs generated cases against a target and turns every answer into findings.
 
-Per tool: catalog checks, explicit boundary go cases, hypothesis-drawn go cases (shrunk on failure),
-no-go cases (one broken keyword each), then protocol probes. After each case the server's liveness is
-checked. A server that exits is restarted (a bounded number of times) so one crash does not hide the
-rest; a tool that hangs twice is not called again in that run.
+Per tool: catalog checks, explicit boundary go cases, sampled go cases (a share drawn by hypothesis, the
+rest by the fast sampler in a plain loop; a failure is shrunk by hypothesis), no-go cases (one broken
+keyword each), then protocol probes. Liveness is checked after a failure or a timeout and every
+``alive_every`` calls. A server that exits is restarted (a bounded number of times) so one crash does not
+hide the rest; a tool that hangs twice is not called again in that run.
 """
 
 from __future__ import annotations
 
+import bisect
 import json
 import os
+import random
 import re
-from collections.abc import Callable
+from collections.abc import Callable, Iterable, Iterator
 from dataclasses import dataclass, field
 from typing import Any
 
@@ -27,10 +30,20 @@ from feeler.session import Exchange, Session
 from feeler.target import Target
 from feeler.world import ValuePool
 from feeler.world.anchor import ToolWorld
+from feeler.world.apply import CASE_SOURCES, with_values
 
 __all__ = ["Call", "RunOptions", "RunReport", "Runner", "ToolStats", "secret_values"]
 
 CASE_KINDS_RUN = ("catalog", "go", "no-go", "probe")
+#: examples hypothesis may draw while it looks for (and shrinks) a failure the fast sampler met
+SHRINK_SEARCH = 200
+#: saved failing examples (feeler's JSON ones) retried per tool before the sampled cases
+MAX_SAVED_RETRIED = 50
+#: sampled go cases drawn by hypothesis per tool and step (all of a check's default 20); the rest come
+#: from the fast sampler. A fixed count: hypothesis' engine makes about 350 cases/s where the plain loop
+#: makes over 1,500 against the same fast server (bench/README.md), so a campaign's bulk stays fast
+HYPOTHESIS_SAMPLES = 20
+_JSON_KEY = b".feeler-json"
 
 
 @dataclass
@@ -72,6 +85,10 @@ class RunOptions:
     alive_every: int = 20
     #: hypothesis example database for drawn go cases (None: none); failing examples are retried first
     example_db: Any = None
+    #: only these tools (exact names; None: every tool include/exclude leave), e.g. one campaign shard
+    only: list[str] | None = None
+    #: sessions calling sampled go cases side by side (server processes for stdio; feeler.check.parallel)
+    workers: int = 1
 
 
 @dataclass
@@ -90,7 +107,16 @@ class ToolStats:
     nogo_entered: int = 0
     probes: int = 0
     timeouts: int = 0
+    #: a uniform sample of the call durations (seconds; reservoir sampling, at most LATENCY_SAMPLE kept)
     durations: list[float] = field(default_factory=list)
+    #: every call's duration counted in the report's fixed-bound histogram (feeler.report.LATENCY_BOUNDS)
+    latency_buckets: list[int] = field(default_factory=list)
+    latency_count: int = 0
+    latency_max: float | None = None
+    #: chain steps that called this tool (feeler.world.chains)
+    chain_calls: int = 0
+    #: seconds spent in answered calls, per case kind (go, no-go, chain)
+    seconds: dict[str, float] = field(default_factory=dict)
     schema_problem: str | None = None
     #: the explicit cases sent (boundary go and no-go), kept to compute keyword coverage
     cases: list[Any] = field(default_factory=list, repr=False)
@@ -243,6 +269,13 @@ class Runner:
         self.pool = self.options.values if self.options.values is not None else ValuePool()
         self.last_call: CallContext | None = None
         self._world: Any = None
+        self._shrunk: dict[str, set[str]] = {}  # per tool: checks whose failure hypothesis was asked to shrink
+        #: sampled go cases of the current tool already called (a resumed campaign skips as many: drawn_skip)
+        self.drawn_done = 0
+        self.drawn_skip = 0
+        self._schemas: dict[str, Any] = {}
+        self._workers: Any = None  # feeler.check.parallel.Workers, with --workers N
+        self._by_kind: dict[str, list[Check]] = {}
         self.redactor = self.options.redactor or redactor_for(target)
         self.settings = _with_target(self.options.settings, target, self.redactor)
 
@@ -257,6 +290,8 @@ class Runner:
         return self.session
 
     def close(self) -> None:
+        if self._workers is not None:
+            self._workers.close()
         if self.session is not None:
             self.session.close()
             self.session = None
@@ -338,8 +373,20 @@ class Runner:
                 continue
             if any(fnmatchcase(tool.name, p) for p in self.options.exclude):
                 continue
+            if self.options.only is not None and tool.name not in self.options.only:
+                continue
             out.append(tool)
         return out
+
+    def schema(self, tool: Tool) -> Any:
+        """*tool*'s input schema compiled once per run (:func:`feeler.generate.compile_schema`; a
+        ``SchemaProblem`` is raised each time, nothing is kept for it)."""
+        from feeler.generate import compile_schema
+
+        ts = self._schemas.get(tool.name)
+        if ts is None:
+            ts = self._schemas[tool.name] = compile_schema(tool.input_schema, name=tool.name)
+        return ts
 
     def stats(self, tool: Tool) -> ToolStats:
         if tool.name not in self.report.tools:
@@ -434,20 +481,19 @@ class Runner:
         return stats.bases
 
     def _go(self, tool: Tool, stats: ToolStats) -> None:
-        from feeler.generate import arguments, go_cases
-        from feeler.world.apply import CASE_SOURCES, with_values
+        from feeler.generate import go_cases
         from feeler.world.plan import base_cases
 
         bases = self._bases(tool, stats)
-        planned = base_cases(tool, self.pool, bases) + go_cases(tool.input_schema, seed=self.options.sample_seed)
+        planned = base_cases(tool, self.pool, bases) + go_cases(self.schema(tool), seed=self.options.sample_seed)
         for pick, case in enumerate(planned):
-            case = with_values(tool.input_schema, tool.name, case, self.pool, pick=pick, sources=CASE_SOURCES)
+            case = with_values(self.schema(tool), tool.name, case, self.pool, pick=pick, sources=CASE_SOURCES)
             stats.cases.append(case)
             if not self._call_case(tool, stats, case) or not self._bound_base(tool, stats, case):
                 return
         if self.options.samples <= 0:
             return
-        self._drawn_go(tool, stats, arguments(tool.input_schema))  # a dry run draws the same cases
+        self._drawn_go(tool, stats)  # a dry run draws the same cases (they print instead of going out)
 
     def _bound_base(self, tool: Tool, stats: ToolStats, case: Any) -> bool:
         """An on-bound go case the tool refused: call its base (the value one step inside the bound) and
@@ -487,20 +533,124 @@ class Runner:
                 if (f.tools or [f.tool]) == [tool.name] and f.kind == "go" and f.error_class in ("refused-valid", "is-error")
             )  # fmt: skip
 
-    def _drawn_go(self, tool: Tool, stats: ToolStats, strategy: Any) -> None:
-        """Sampled go cases in a hypothesis property, so a failure is shrunk to the smallest arguments."""
-        from hypothesis import HealthCheck, Phase, Verbosity, given, seed, settings
+    def _drawn_go(self, tool: Tool, stats: ToolStats) -> None:
+        """Sampled go cases: the failing examples saved in the example database first; then a share of the
+        cases drawn by hypothesis (:func:`hypothesis_share`: hypothesis' own saved examples, its drawing,
+        which reaches punctuation, empty and odd values the fast sampler seldom makes, and its shrinking);
+        then the rest from the fast sampler (:func:`feeler.generate.fast_go_cases`) in a plain loop. A
+        fast case that fails a check this tool has not failed before in this run is saved to the example
+        database and handed to hypothesis, which looks for the failure with its own strategy and shrinks it
+        to the smallest arguments (the smaller finding replaces the larger one). Hypothesis' engine costs
+        more per case than the call itself against a fast server (bench/README.md), hence the plain loop
+        for the bulk. A resumed step (``drawn_skip``) goes on in the fast part where it stopped."""
+        from hypothesis import Phase
+
+        from feeler.generate import fast_go_cases
+
+        if self.options.samples <= 0:
+            return
+        skip, self.drawn_skip = self.drawn_skip, 0
+        self.drawn_done = 0
+        by_hypothesis = hypothesis_share(self.options.samples)
+        if not skip:
+            if self.options.example_db is not None and not self._retry_saved(tool, stats):
+                return
+            phases = [Phase.reuse] if self.options.example_db is not None else []
+            phases += [Phase.generate, Phase.shrink] if self.options.shrink else [Phase.generate]
+            if not self._hypothesis_go(tool, stats, phases, by_hypothesis):
+                return
+        if self.options.samples <= by_hypothesis:
+            return
+        ts = self.schema(tool)
+        cases = fast_go_cases(ts, self.options.samples - by_hypothesis, seed=self.options.sample_seed)
+        start = min(skip, len(cases))
+        self.drawn_done = start
+
+        def prepared() -> Iterator[Any]:
+            for pick in range(start, len(cases)):
+                self.drawn_done = pick + 1  # counted as done once it is handed out (a resume skips it)
+                yield with_values(ts, tool.name, cases[pick], self.pool, pick=pick, sources=CASE_SOURCES)
+
+        for case, failed in self._call_cases(tool, stats, prepared()):
+            if failed is None:
+                return  # the tool cannot be called any more (hangs, restarts used up)
+            if failed:
+                self._on_drawn_failure(tool, stats, case, failed)
+
+    def _call_cases(self, tool: Tool, stats: ToolStats, cases: Iterable[Any]) -> Iterator[tuple[Any, list[str] | None]]:
+        """Call each case in turn; yields ``(case, failed checks)``, ``None`` for the checks when the tool
+        cannot be called again (then it stops). With ``workers`` > 1 the calls go out on several sessions
+        at once (:mod:`feeler.check.parallel`) and are judged here in the order the answers come."""
+        if self.options.workers > 1 and not self.options.dry_run:
+            if self._workers is None:
+                from feeler.check.parallel import Workers
+
+                self._workers = Workers(self, self.options.workers)
+            yield from self._workers.call_cases(tool, stats, cases)
+            return
+        for case in cases:
+            try:
+                failed = self._call_case(tool, stats, case, collect=True)
+            except _ToolAbandoned:
+                yield case, None
+                return
+            yield case, failed
+
+    def _on_drawn_failure(self, tool: Tool, stats: ToolStats, case: Any, failed: list[str]) -> None:
+        seen = self._shrunk.setdefault(tool.name, set())
+        new = [name for name in failed if name not in seen]
+        if not new:
+            return
+        seen.update(failed)
+        db = self.options.example_db
+        if db is not None:
+            db.save(_database_key(tool) + _JSON_KEY, json.dumps(case.arguments, sort_keys=True, default=str).encode("utf-8"))
+        if self.options.shrink:
+            from hypothesis import Phase
+
+            self._hypothesis_go(tool, stats, [Phase.generate, Phase.shrink], min(SHRINK_SEARCH, max(self.options.samples, 50)))
+
+    def _retry_saved(self, tool: Tool, stats: ToolStats) -> bool:
+        """The failing examples feeler saved as JSON in the example database, retried first (an entry
+        that passes is dropped); hypothesis' own saved examples are replayed by :meth:`_hypothesis_go`.
+        False when the tool cannot be called any more."""
+        from feeler.generate import Case
+
+        db = self.options.example_db
+        key = _database_key(tool) + _JSON_KEY
+        saved = []
+        for raw in db.fetch(key):
+            if len(saved) >= MAX_SAVED_RETRIED:
+                break
+            try:
+                saved.append((raw, json.loads(raw.decode("utf-8"))))
+            except ValueError:
+                db.delete(key, raw)
+        for raw, arguments in saved:
+            case = Case("go", None, "$", "", arguments, None, "sampled", "saved failing example")
+            try:
+                failed = self._call_case(tool, stats, case, collect=True)
+            except _ToolAbandoned:
+                return False
+            if failed:
+                self._shrunk.setdefault(tool.name, set()).update(failed)
+            else:
+                db.delete(key, raw)  # fixed: not retried again
+        return True
+
+    def _hypothesis_go(self, tool: Tool, stats: ToolStats, phases: list[Any], max_examples: int) -> bool:
+        """Go cases drawn by hypothesis (``feeler.generate.arguments``) in a property, so that a failure
+        is shrunk to the smallest arguments and kept in the example database. False when the tool cannot
+        be called any more."""
+        import unittest
+
+        from hypothesis import HealthCheck, Verbosity, given, seed, settings
         from hypothesis import strategies as st
 
-        from feeler.generate import Case
-        from feeler.world.apply import CASE_SOURCES, with_values
-
-        phases = [Phase.generate, Phase.shrink] if self.options.shrink else [Phase.generate]
-        if self.options.example_db is not None:
-            phases.insert(0, Phase.reuse)
+        from feeler.generate import Case, arguments
 
         @settings(
-            max_examples=self.options.samples,
+            max_examples=max_examples,
             deadline=None,
             database=self.options.example_db,
             phases=phases,
@@ -509,19 +659,20 @@ class Runner:
             report_multiple_bugs=True,
         )
         @seed(self.options.sample_seed)
-        @given(strategy, st.integers(0, 255) if len(self.pool) else st.just(0))
+        @given(arguments(self.schema(tool)), st.integers(0, 255) if len(self.pool) else st.just(0))
         def prop(args: Any, pick: int) -> None:
             case = Case("go", None, "$", "", args, None, "sampled", "sampled")
-            case = with_values(tool.input_schema, tool.name, case, self.pool, pick=pick, sources=CASE_SOURCES)
+            case = with_values(self.schema(tool), tool.name, case, self.pool, pick=pick, sources=CASE_SOURCES)
             failed = self._call_case(tool, stats, case, collect=True)
             if failed:
+                self._shrunk.setdefault(tool.name, set()).update(failed)
                 raise _failure_type(failed[0])(failed)
 
         # One database key per tool and schema: hypothesis would otherwise key every tool alike.
         prop._hypothesis_internal_database_key = _database_key(tool)  # type: ignore[attr-defined]
         try:
             prop()
-        except _CaseFailed:
+        except (_CaseFailed, unittest.SkipTest):
             pass
         except BaseException as exc:  # an exception group of several distinct failures, or our abort
             # (a flaky server, e.g. one that is only sometimes slow, gives hypothesis a FlakyFailure group
@@ -530,6 +681,9 @@ class Runner:
                 isinstance(e, (_CaseFailed, _ToolAbandoned)) for e in _leaves(exc)
             ):
                 raise
+            if any(isinstance(e, _ToolAbandoned) for e in _leaves(exc)):
+                return False
+        return True
 
     def _nogo(self, tool: Tool, stats: ToolStats) -> None:
         from feeler.generate import Case, nogo_cases
@@ -544,7 +698,7 @@ class Runner:
             ]:
                 if not self._call_case(tool, stats, case):
                     return
-        for case in nogo_cases(tool.input_schema, bases=nogo_bases(stats.world, tool, self.pool, bases)):
+        for case in nogo_cases(self.schema(tool), bases=nogo_bases(stats.world, tool, self.pool, bases)):
             stats.cases.append(case)
             if not self._call_case(tool, stats, case):
                 return
@@ -584,12 +738,7 @@ class Runner:
                 ctx.failure = exc
         except TargetError as exc:
             ctx.failure = exc
-        with held():  # a stop signal waits until the call is counted, judged and logged
-            self._count(stats, ctx)
-            self.world.after_call(tool, case, ctx, stats)
-            failed = self._evaluate(ctx)
-            if self.on_call is not None:
-                self.on_call(tool, case, ctx, failed)
+        failed = self._judge(tool, stats, case, ctx)
         self._calls_since_alive += 1
         alive_failed: list[str] = []
         self._unpinged = case
@@ -613,11 +762,20 @@ class Runner:
             return "values learned from earlier answers may fill identifier, path or name inputs"
         return None
 
+    def _judge(self, tool: Tool, stats: ToolStats, case: Any, ctx: CallContext) -> list[str]:
+        """Count, learn from, check and log one finished call; returns the checks that found an error."""
+        with held():  # a stop signal waits until the call is counted, judged and logged
+            self._count(stats, ctx)
+            self.world.after_call(tool, case, ctx, stats)
+            failed = self._evaluate(ctx)
+            if self.on_call is not None:
+                self.on_call(tool, case, ctx, failed)
+        return failed
+
     def _count(self, stats: ToolStats, ctx: CallContext) -> None:
         ex = ctx.exchange
         if ex is not None and ex.finished is not None:
-            if len(stats.durations) < 10_000:
-                stats.durations.append(ex.duration)
+            note_duration(stats, ex.duration, ctx.kind)
         if ctx.kind == "go":
             stats.world.note_go(ctx.case, ex, ctx.failure)
             stats.go_calls += 1
@@ -651,7 +809,10 @@ class Runner:
         """Run every check (or those named in *only*) on *ctx*; record findings; return the names of
         checks that found an error."""
         failed: list[str] = []
-        for check in self.checks:
+        checks = self._by_kind.get(ctx.kind)
+        if checks is None:  # the checks that apply to this kind of call, in registry order (once per kind)
+            checks = self._by_kind[ctx.kind] = [c for c in self.checks if ctx.kind in c.applies_to]
+        for check in checks:
             if only is not None and check.name not in only:
                 continue
             for problem in check.run(ctx):
@@ -716,6 +877,38 @@ class Runner:
         for finding in self.report.findings if findings is None else findings:
             if finding.request_text:
                 finding.replay = write_replay(self.options.replay_dir, self.target, finding, self.settings)
+
+
+def hypothesis_share(samples: int) -> int:
+    """How many of *samples* sampled go cases hypothesis draws (HYPOTHESIS_SAMPLES at most)."""
+    return min(samples, HYPOTHESIS_SAMPLES)
+
+
+#: durations kept per tool for the percentiles (the histogram counts every call)
+LATENCY_SAMPLE = 4096
+_sampler = random.Random(0)
+
+
+def note_duration(stats: ToolStats, seconds: float, kind: str) -> None:
+    """Count one call's duration: in the time per case kind, exactly in the fixed-bound histogram, and in
+    the bounded uniform sample the percentiles come from (reservoir sampling, Vitter's algorithm R), so
+    memory stays flat."""
+    from feeler.report.document import LATENCY_BOUNDS
+
+    stats.seconds[kind] = stats.seconds.get(kind, 0.0) + seconds
+
+    if not stats.latency_buckets:
+        stats.latency_buckets = [0] * (len(LATENCY_BOUNDS) + 1)
+    stats.latency_buckets[bisect.bisect_left(LATENCY_BOUNDS, seconds)] += 1
+    stats.latency_count += 1
+    if stats.latency_max is None or seconds > stats.latency_max:
+        stats.latency_max = seconds
+    if len(stats.durations) < LATENCY_SAMPLE:
+        stats.durations.append(seconds)
+    else:
+        slot = _sampler.randrange(stats.latency_count)
+        if slot < LATENCY_SAMPLE:
+            stats.durations[slot] = seconds
 
 
 def _leaves(exc: BaseException, depth: int = 0) -> list[BaseException]:

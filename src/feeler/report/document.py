@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import bisect
 import json
 import math
 from datetime import datetime, timezone
@@ -33,20 +34,31 @@ def _percentile(ordered: list[float], q: float) -> float | None:
     return ordered[max(0, math.ceil(q * len(ordered)) - 1)]
 
 
-def latency_summary(durations: list[float]) -> dict[str, Any]:
-    """Count, p50/p95/p99, max and the fixed-bound histogram of *durations* (seconds)."""
+def latency_summary(durations: list[float], stats: ToolStats | None = None) -> dict[str, Any]:
+    """Count, p50/p95/p99, max and the fixed-bound histogram of *durations* (seconds).
+
+    With *stats* (a tool's counters), count, max and the histogram are those of every call, and
+    *durations* is the tool's bounded uniform sample: the percentiles are read from it and marked
+    ``approximate`` once the calls outnumber the sample."""
     ordered = sorted(durations)
     counts = [0] * (len(LATENCY_BOUNDS) + 1)
-    for value in ordered:
-        counts[next((i for i, bound in enumerate(LATENCY_BOUNDS) if value <= bound), len(LATENCY_BOUNDS))] += 1
-    return {
-        "count": len(ordered),
+    count, top = len(ordered), (ordered[-1] if ordered else None)
+    if stats is not None and stats.latency_count:
+        counts, count, top = list(stats.latency_buckets), stats.latency_count, stats.latency_max
+    else:
+        for value in ordered:
+            counts[bisect.bisect_left(LATENCY_BOUNDS, value)] += 1
+    out = {
+        "count": count,
         "p50": _percentile(ordered, 0.50),
         "p95": _percentile(ordered, 0.95),
         "p99": _percentile(ordered, 0.99),
-        "max": ordered[-1] if ordered else None,
+        "max": top,
         "buckets": [{"le": bound, "count": n} for bound, n in zip((*LATENCY_BOUNDS, None), counts)],
     }
+    if count > len(ordered):
+        out["approximate"] = True
+    return out
 
 
 def _tool(stats: ToolStats, findings: int) -> dict[str, Any]:
@@ -55,12 +67,18 @@ def _tool(stats: ToolStats, findings: int) -> dict[str, Any]:
         "skipped": stats.skipped,
         "annotated": stats.annotated,
         "schemaProblem": stats.schema_problem,
-        "calls": stats.go_calls + stats.nogo_calls,
+        "calls": stats.go_calls + stats.nogo_calls + stats.chain_calls,
+        "chainCalls": stats.chain_calls,
+        "elapsedSeconds": {
+            "go": round(stats.seconds.get("go", 0.0), 6),
+            "noGo": round(stats.seconds.get("no-go", 0.0), 6),
+            "chain": round(stats.seconds.get("chain", 0.0), 6),
+        },
         **stats.counters(),
         "probes": stats.probes,
         "timeouts": stats.timeouts,
         "findings": findings,
-        "latency": latency_summary(stats.durations),
+        "latency": latency_summary(stats.durations, stats),
         "coverage": stats.coverage_summary(),
     }
 

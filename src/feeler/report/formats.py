@@ -99,7 +99,9 @@ def render_junit(doc: dict[str, Any]) -> str:
     """JUnit XML: one testsuite per tool (plus ``server``), one testcase per case kind; errors fail it.
 
     The element and attribute names are the de-facto JUnit XML ones read by CI systems (common practice;
-    there is no formal standard). Warnings go to ``system-out``, since JUnit has no warning state.
+    there is no formal standard). Warnings go to ``system-out``, since JUnit has no warning state. ``time``
+    is elapsed seconds: a testcase's is the time spent in that kind's calls of the tool, a testsuite's
+    their sum, the root's the whole run.
     """
     from xml.etree import ElementTree as ET
 
@@ -108,17 +110,21 @@ def render_junit(doc: dict[str, Any]) -> str:
     for f in doc["findings"]:
         by_tool.setdefault(f.get("tool") or "server", []).append(f)
     names = [t["name"] for t in doc["tools"]] + (["server"] if "server" in by_tool and "server" not in {t["name"] for t in doc["tools"]} else [])
-    latency = {t["name"]: t["latency"] for t in doc["tools"]}
+    elapsed = {t["name"]: t.get("elapsedSeconds") or {} for t in doc["tools"]}
+    json_kind = {"go": "go", "no-go": "noGo", "chain": "chain"}
     total_tests = total_failures = 0
     for name in names:
         findings = by_tool.get(name, [])
         kinds = sorted({f["kind"] for f in findings} | ({"go", "no-go"} if name != "server" else {"probe"}))
         suite = ET.SubElement(root, "testsuite", name=name)
         failures = 0
+        suite_time = 0.0
         for kind in kinds:
             case = ET.SubElement(suite, "testcase", classname=f"feeler.{doc['target']}.{name}", name=kind)
-            if name in latency and latency[name]["p50"] is not None and kind in ("go", "no-go"):
-                case.set("time", f"{latency[name]['p50']:.6f}")
+            if kind in json_kind and json_kind[kind] in elapsed.get(name, {}):
+                seconds = elapsed[name][json_kind[kind]]  # the time spent in this kind's calls
+                case.set("time", f"{seconds:.6f}")
+                suite_time += seconds
             mine = [f for f in findings if f["kind"] == kind]
             errors = [f for f in mine if f["severity"] == "error"]
             if errors:
@@ -131,11 +137,13 @@ def render_junit(doc: dict[str, Any]) -> str:
         suite.set("tests", str(len(kinds)))
         suite.set("failures", str(failures))
         suite.set("errors", "0")
+        suite.set("time", f"{suite_time:.6f}")
         total_tests += len(kinds)
         total_failures += failures
     root.set("tests", str(total_tests))
     root.set("failures", str(total_failures))
     root.set("errors", "0")
+    root.set("time", f"{float(doc.get('durationSeconds') or 0):.3f}")  # the whole run, wall clock
     ET.indent(root)
     return '<?xml version="1.0" encoding="UTF-8"?>\n' + ET.tostring(root, encoding="unicode") + "\n"
 
@@ -148,7 +156,11 @@ def render_sarif(doc: dict[str, Any]) -> str:
     """SARIF 2.1.0 (OASIS): one run, one rule per check, one result per finding.
 
     Findings concern a server, not a source file, so each result has a *logical* location (SARIF 3.33):
-    the tool as a ``function`` inside the target.
+    the tool as a ``function`` inside the target. A finding with a replay file also gets a *physical*
+    location (SARIF 3.29): that file, relative to where feeler ran (SARIF 3.4.3 ``uriBaseId``
+    ``%SRCROOT%``), line 1, since code-scanning dashboards place a result in a file (GitHub code scanning
+    shows results by file and line; from memory of its "SARIF support" page). The replay file is what a
+    reader opens to reproduce the finding, so it is an honest place; nothing points into server source.
     """
     from feeler.check.registry import CHECKS
 
@@ -172,7 +184,7 @@ def render_sarif(doc: dict[str, Any]) -> str:
             "ruleIndex": index[check],
             "level": "error" if f["severity"] == "error" else "warning",
             "message": {"text": message},
-            "locations": [{"logicalLocations": [{"name": name, "fullyQualifiedName": f"{doc['target']}/{name}", "kind": "function"}]}],
+            "locations": [_location(f, name, doc["target"])],
             "partialFingerprints": {"feelerSignature/v1": f["signature"]},
             "occurrenceCount": f.get("count", 1),
             "properties": {k: f[k] for k in ("kind", "keyword", "keywordLocation", "instanceLocation", "arguments", "replay") if f.get(k) is not None},
@@ -193,6 +205,22 @@ def render_sarif(doc: dict[str, Any]) -> str:
         ],
     }
     return json.dumps(sarif, indent=2, ensure_ascii=False) + "\n"
+
+
+def _location(finding: dict[str, Any], name: str, target: str) -> dict[str, Any]:
+    location: dict[str, Any] = {"logicalLocations": [{"name": name, "fullyQualifiedName": f"{target}/{name}", "kind": "function"}]}
+    replay = finding.get("replay")
+    if replay:
+        from pathlib import Path
+        from urllib.parse import quote
+
+        if os.path.isabs(replay):  # outside the project: an absolute file URI (SARIF 3.10.3)
+            artifact = {"uri": Path(replay).as_uri()}
+        else:
+            uri = quote("/".join(part for part in replay.replace(os.sep, "/").split("/") if part not in ("", ".")), safe="/")
+            artifact = {"uri": uri, "uriBaseId": "%SRCROOT%"}
+        location["physicalLocation"] = {"artifactLocation": artifact, "region": {"startLine": 1}}
+    return location
 
 
 def _render_html(doc: dict[str, Any]) -> str:

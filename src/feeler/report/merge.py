@@ -38,10 +38,13 @@ def _merge_latency(a: dict[str, Any], b: dict[str, Any]) -> dict[str, Any]:
 
 def _merge_tool(a: dict[str, Any], b: dict[str, Any]) -> dict[str, Any]:
     out = dict(a)
-    for key in ("calls", "probes", "timeouts"):
+    for key in ("calls", "chainCalls", "probes", "timeouts"):
         out[key] = a.get(key, 0) + b.get(key, 0)
     out["go"] = _add_counts(a["go"], b["go"])
     out["noGo"] = _add_counts(a["noGo"], b["noGo"])
+    if "elapsedSeconds" in a or "elapsedSeconds" in b:
+        ea, eb = a.get("elapsedSeconds", {}), b.get("elapsedSeconds", {})
+        out["elapsedSeconds"] = {k: round(ea.get(k, 0) + eb.get(k, 0), 6) for k in dict.fromkeys([*ea, *eb])}
     out["latency"] = _merge_latency(a["latency"], b["latency"])
     out["skipped"] = a.get("skipped") if a.get("skipped") and b.get("skipped") else None
     cov_a, cov_b = a.get("coverage"), b.get("coverage")
@@ -77,7 +80,7 @@ def merge_reports(docs: list[dict[str, Any]]) -> dict[str, Any]:
     errors = sum(1 for f in merged_findings if f["severity"] == "error")
     targets = sorted({d["target"] for d in docs})
     first = docs[0]
-    return {
+    merged: dict[str, Any] = {
         "format": REPORT_FORMAT,
         "feelerVersion": first["feelerVersion"],
         "command": "merge",
@@ -102,4 +105,26 @@ def merge_reports(docs: list[dict[str, Any]]) -> dict[str, Any]:
         },
         "tools": [tools[name] for name in sorted(tools)],
         "findings": merged_findings,
+    }
+    campaigns = [d["campaign"] for d in docs if d.get("campaign")]
+    if campaigns:
+        merged["campaign"] = _merge_campaigns(campaigns)
+    return merged
+
+
+def _merge_campaigns(parts: list[dict[str, Any]]) -> dict[str, Any]:
+    """The ``campaign`` object of shards that ran side by side: the longest budget, the rounds every
+    part finished (the fewest), the restarts after an interruption added up; a call log or an example
+    database only when all parts name the same one."""
+
+    def same(key: str) -> Any:
+        values = {p.get(key) for p in parts}
+        return values.pop() if len(values) == 1 else None
+
+    return {
+        "budgetSeconds": max(p.get("budgetSeconds", 0) for p in parts),
+        "rounds": min(p.get("rounds", 0) for p in parts),
+        "resumed": sum(p.get("resumed", 0) for p in parts),
+        "callLog": same("callLog"),
+        "exampleDatabase": same("exampleDatabase"),
     }

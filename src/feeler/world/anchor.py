@@ -127,10 +127,11 @@ class ToolWorld:
         result = outcome(exchange, failure)
         if result == "entered":
             self.entered_by_source[case_source(case) or "sampled"] += 1
-            text = canonical_dumps(case.arguments)
-            if text not in self._seen and len(self.entered) < MAX_KEPT:
-                self._seen.add(text)
-                self.entered.append(case.arguments)
+            if len(self.entered) < MAX_KEPT:  # bounded: nothing kept per call once full
+                text = canonical_dumps(case.arguments)
+                if text not in self._seen:
+                    self._seen.add(text)
+                    self.entered.append(case.arguments)
         elif result == "stopped" and exchange.error is None:
             self.go_refused += 1  # refused by the tool (isError); a -32602 stays a go_enters finding
             message = refusal_text(exchange)

@@ -41,6 +41,7 @@ from typing import TYPE_CHECKING, Any
 from feeler._signals import held
 from feeler.catalog import Tool
 from feeler.check.registry import CHECKS, CallContext, Check, Problem
+from feeler.check.runner import note_duration
 from feeler.errors import RemoteProtocolError, RequestTimeout, ServerExited, TargetError
 from feeler.session import Session
 from feeler.world.apply import put_at, slots
@@ -141,8 +142,12 @@ def _call(runner: Runner, tool: Tool, arguments: Any) -> CallContext:
         ctx.failure = exc
     if isinstance(ctx.failure, ServerExited):
         runner._restart()
-    if runner.on_call is not None:  # the call log (and a campaign's budget) see chain calls too
-        with held():
+    with held():  # counted and logged together (a stop signal waits)
+        stats = runner.stats(tool)
+        stats.chain_calls += 1
+        if ctx.exchange is not None and ctx.exchange.finished is not None:
+            note_duration(stats, ctx.exchange.duration, "chain")
+        if runner.on_call is not None:  # the call log (and a campaign's budget) see chain calls too
             runner.on_call(tool, _ChainCall(arguments), ctx, [])
     return ctx
 
@@ -164,12 +169,11 @@ class _Plan:
     """What the machine is built from: the chain's tools, their base arguments and their slots."""
 
     def __init__(self, runner: Runner, tools: list[Tool], bases: dict[str, list[Any]]) -> None:
-        from feeler.generate import compile_schema
 
         self.runner = runner
         self.tools = {t.name: t for t in tools}
         self.bases = bases
-        self.schemas = {t.name: compile_schema(t.input_schema) for t in tools}
+        self.schemas = {t.name: runner.schema(t) for t in tools}
         self.nouns = {t.name: nouns(t.name) for t in tools}
         self.slots: list[_Slot] = []
         for tool in tools:
@@ -314,6 +318,10 @@ def _scalars(value: Any) -> list[Any]:
     return [value] if isinstance(value, (str, int)) and not isinstance(value, bool) else []
 
 
+#: the built-in chain checks: they need a linked slot (read_your_writes) or an idempotent tool
+_LINK_CHECKS = frozenset({"read_your_writes", "idempotent_repeat"})
+
+
 def run_chains(
     runner: Runner, tools: list[Tool], bases: dict[str, list[Any]], *, runs: int, steps: int, shrink: bool = True
 ) -> list[ChainFailure]:
@@ -329,6 +337,10 @@ def run_chains(
     plan = _Plan(runner, tools, bases)
     if not plan.checks:
         return []
+    if not plan.slots and {c.name for c in plan.checks} <= _LINK_CHECKS and not any(
+        t.annotations.get("idempotentHint") is True for t in tools
+    ):
+        return []  # no input takes a returned identifier and no tool is idempotent: no chain check can fail
     failures: dict[str, ChainFailure] = {}
     machine = _machine(plan, failures)
     phases = [Phase.generate, Phase.shrink] if shrink else [Phase.generate]

@@ -91,8 +91,9 @@ class World:
             if not known:
                 # No go case of this tool ran in this process (a pytest-xdist worker got only the chains
                 # item): call a few go cases first and keep those that entered as the bases.
-                for pick, case in enumerate(go_cases(tool.input_schema, seed=runner.options.sample_seed)[:_BASES_PER_TOOL]):
-                    offered = with_values(tool.input_schema, tool.name, case, self.pool, pick=pick, sources=CASE_SOURCES)
+                ts = runner.schema(tool)
+                for pick, case in enumerate(go_cases(ts, seed=runner.options.sample_seed)[:_BASES_PER_TOOL]):
+                    offered = with_values(ts, tool.name, case, self.pool, pick=pick, sources=CASE_SOURCES)
                     if not runner._call_case(tool, stats, offered):
                         break
                 known = list(stats.world.entered[:_BASES_PER_TOOL])
