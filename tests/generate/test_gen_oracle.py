@@ -22,7 +22,7 @@ from hypothesis import strategies as st
 from feeler._json import json_path
 from feeler.errors import SchemaProblem
 from feeler.generate import ToolSchema, coverage, drawn_cases, go_cases, nogo_cases
-from gen_reference import reference_validator
+from gen_reference import nogo_is_proven, reference_validator
 
 CORPUS = sorted((pathlib.Path(__file__).parent / "corpus").glob("*.json"))
 
@@ -37,12 +37,10 @@ def assert_cases_hold(schema: Any, *, draws: int = 0) -> tuple[list, list]:
         assert oracle.is_valid(case.arguments), (case, list(oracle.iter_errors(case.arguments)))
         assert case.error is None and case.kind == "go"
     for case in nogo:
-        # jsonschema: some error carries the named keyword (error.validator) at the named instance path.
+        # jsonschema: some error of the tree (context included) carries the named keyword (error.validator)
+        # at the named instance path.
         errors = list(oracle.iter_errors(case.arguments))
-        assert any(e.validator == case.keyword and json_path(e.absolute_path) == case.path for e in errors), (
-            case,
-            [(e.validator, json_path(e.absolute_path)) for e in errors],
-        )
+        assert nogo_is_proven(oracle, schema, case), (case, [(e.validator, json_path(e.absolute_path)) for e in errors])
         assert case.kind == "no-go" and case.error
     return go, nogo
 

@@ -11,19 +11,14 @@ from collections.abc import Iterable
 from dataclasses import dataclass
 from typing import Any
 
-from feeler.generate._schema import SCHEMA_KEYWORDS, SCHEMA_LIST_KEYWORDS, SCHEMA_MAP_KEYWORDS, ToolSchema, compile_schema, pointer, subschemas
+from feeler.generate._model import ANNOTATIONS, compile_schema
+from feeler.generate._schema import SCHEMA_KEYWORDS, SCHEMA_LIST_KEYWORDS, SCHEMA_MAP_KEYWORDS, ToolSchema, pointer, subschemas
 from feeler.generate._walk import sites
 from feeler.generate.cases import Case
 from feeler.generate.mutators import MUTATORS
 
 __all__ = ["KeywordCoverage", "coverage"]
 
-#: Keywords that constrain nothing (JSON Schema 2020-12 core section 8 and validation section 9).
-ANNOTATIONS = frozenset({
-    "title", "description", "default", "examples", "$comment", "deprecated", "readOnly", "writeOnly",
-    "$schema", "$id", "$anchor", "$dynamicAnchor", "$defs", "definitions", "contentMediaType",
-    "contentEncoding", "contentSchema", "$vocabulary",
-})  # fmt: skip
 APPLICATORS = frozenset({*SCHEMA_KEYWORDS, *SCHEMA_LIST_KEYWORDS, *SCHEMA_MAP_KEYWORDS, "items", "dependencies", "$ref"}) - ANNOTATIONS
 _ALL_TYPES = {"null", "boolean", "integer", "number", "string", "array", "object"}
 
@@ -101,7 +96,7 @@ def coverage(schema: Any, cases: Iterable[Case]) -> list[KeywordCoverage]:
         if case.kind == "go":
             for site in sites(ts, case.arguments):
                 reached.add(site.pointer)
-                for keyword in site.node:
+                for keyword in site.kw:
                     go[(site.pointer, keyword)] = go.get((site.pointer, keyword), 0) + 1
         else:
             node_at, _, keyword = case.schema_path.rpartition("/")
@@ -113,7 +108,7 @@ def coverage(schema: Any, cases: Iterable[Case]) -> list[KeywordCoverage]:
         n_nogo = nogo.get((at, keyword), 0)
         if keyword in APPLICATORS and not n_nogo:
             if keyword == "$ref":
-                target = ts.resolve(value)[1]
+                target = ts.resolve(value, ts.resolver_for(node))[1]
                 n_nogo = sum(1 for p in nogo_paths if p.startswith(target + "/"))
             else:
                 prefix = f"{at}/{keyword}/"
