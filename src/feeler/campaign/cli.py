@@ -64,6 +64,8 @@ def _terminate(_signum: int, _frame: Any) -> None:
 @click.option("--shard", default=None, metavar="i/n", help="Run only shard i of n (tools split by name; every tool in one shard).")
 @click.option("--samples", type=click.IntRange(min=1), default=20, show_default=True, help="Drawn go cases per tool in the first round (doubles each round).")
 @click.option("--max-samples", type=click.IntRange(min=1), default=2000, show_default=True, help="Most sampled go cases per tool in one round.")
+@click.option("--recursion-depth", type=click.IntRange(min=0), default=3, show_default=True,
+              help="How often generation follows a recursive $ref on one path.")
 @click.option("--example-db", default=None, metavar="DIR|redis://HOST:PORT/N|none",
               help="hypothesis example database: failing examples are retried first next time [.feeler/examples].")
 @click.option("--folder", default=None, metavar="DIR", help="Campaign folder: state and call log [.feeler/campaigns/TARGET[-shard-i-of-n]].")
@@ -97,6 +99,7 @@ def campaign(**kwargs: Any) -> int:
     options = RunOptions(
         sample_seed=kwargs["seed"], samples=kwargs["samples"], include=list(kwargs["include"]),
         exclude=list(kwargs["exclude"]), allow_destructive=kwargs["allow_destructive"], replay_dir=kwargs["replay_dir"],
+        recursion_depth=kwargs["recursion_depth"],
     )  # fmt: skip
     camp_options = CampaignOptions(
         budget=budget, folder=folder, shard=shard, samples=kwargs["samples"], max_samples=kwargs["max_samples"],
