@@ -196,9 +196,9 @@ def example(shape: Shape, full: bool = False, _nesting: int = 0) -> Any:
     return find_value(shape)
 
 
-def find_value(shape: Shape, want: Callable[[Any], bool] | None = None, seed: int = 0) -> Any:
-    """A value *shape* accepts (and *want* too, when given): construction, then the seeded sampler, then a
-    hypothesis search; deterministic.
+def find_value(shape: Shape, want: Callable[[Any], bool] | None = None, seed: int = 0, search: bool = True) -> Any:
+    """A value *shape* accepts (and *want* too, when given): construction, then the seeded sampler, then
+    (with *search*) a bounded hypothesis search; deterministic.
 
     :raises Unbuildable: nothing was found within the budget.
     """
@@ -212,7 +212,8 @@ def find_value(shape: Shape, want: Callable[[Any], bool] | None = None, seed: in
             continue
         if ok(value):
             return value
-    rng, sample = random.Random(seed), sampler_for(shape)
+    # Without a search, the sampler must not reach for its own hypothesis pool either.
+    rng, sample = random.Random(seed), sampler_for(shape, pool=search)
     for _ in range(_DRAWS):
         try:
             value = sample(rng)
@@ -220,9 +221,11 @@ def find_value(shape: Shape, want: Callable[[Any], bool] | None = None, seed: in
             continue
         if ok(value):
             return value
+    if not search:
+        raise Unbuildable
     if want is None:
         return searched_example(shape)
-    for value in searched_examples(shape, 100):
+    for value in searched_examples(shape, _DRAWS):
         if ok(value):
             return value
     raise Unbuildable

@@ -54,15 +54,20 @@ class _Miss(Exception):
     """This draw did not satisfy the shape; the caller draws again."""
 
 
-def sampler_for(shape: Shape) -> Sampler:
-    """The sampler of values for *shape* (made once per shape and kept on it)."""
-    found = shape.__dict__.get("_sampler")
+def sampler_for(shape: Shape, pool: bool = True) -> Sampler:
+    """The sampler of values for *shape* (made once per shape and kept on it).
+
+    :param pool: when the shape's own draws keep failing, fall back to a pool of hypothesis values
+        (costly: a search); without it the sampler just misses (callers with a cheaper plan B).
+    """
+    key = "_sampler" if pool else "_sampler_no_pool"
+    found = shape.__dict__.get(key)
     if found is None:
         holder: list[Sampler] = []
         # A forwarding sampler first, in case the shape is reached again while it is being made.
-        shape.__dict__["_sampler"] = lambda rng: holder[0](rng)
-        holder.append(_compile(shape))
-        found = shape.__dict__["_sampler"] = holder[0]
+        shape.__dict__[key] = lambda rng: holder[0](rng)
+        holder.append(_compile(shape, pool))
+        found = shape.__dict__[key] = holder[0]
     return found
 
 
@@ -99,7 +104,7 @@ def fast_values(ts: ToolSchema, count: int, rng: random.Random) -> tuple[list[An
 # -- compilation ---------------------------------------------------------------------------------------
 
 
-def _compile(shape: Shape) -> Sampler:
+def _compile(shape: Shape, pool: bool = True) -> Sampler:
     if shape.never:
         return _never
     if not shape.parts:
@@ -107,8 +112,8 @@ def _compile(shape: Shape) -> Sampler:
     try:
         inner = _compile_known(shape)
     except Unbuildable:
-        return _pool(shape)
-    return inner if shape.exact else _filtered(shape, inner)
+        return _pool(shape) if pool else _never
+    return inner if shape.exact else _filtered(shape, inner, pool)
 
 
 def _compile_known(shape: Shape) -> Sampler:
@@ -154,7 +159,7 @@ def _choice(branches: list[Sampler]) -> Sampler:
     return sample
 
 
-def _filtered(shape: Shape, inner: Sampler) -> Sampler:
+def _filtered(shape: Shape, inner: Sampler, with_pool: bool = True) -> Sampler:
     pool: list[Sampler] = []
 
     def sample(rng: random.Random) -> Any:
@@ -165,6 +170,8 @@ def _filtered(shape: Shape, inner: Sampler) -> Sampler:
                 continue
             if shape.accepts(value):
                 return value
+        if not with_pool:
+            raise _Miss
         if not pool:
             pool.append(_pool(shape))
         return pool[0](rng)
@@ -525,9 +532,11 @@ def _object(shape: Shape) -> Sampler:
             extras.append((_text_sampler(0, None, [], [pattern]), shape.for_key))
         except Unbuildable:
             continue
-    if shape.extra is not None and (shape.extra.parts or shape.names is not None):
-        keys = sampler_for(shape.names) if shape.names is not None else _key
-        extras.append((keys, shape.for_key))
+    free: Sampler | None = None
+    if shape.extra is not None:
+        free = sampler_for(shape.names) if shape.names is not None else _key
+        if shape.extra.parts or shape.names is not None:
+            extras.append((free, shape.for_key))
 
     def sample(rng: random.Random) -> dict:
         out = {name: values[name](rng) for name in required}
@@ -552,6 +561,12 @@ def _object(shape: Shape) -> Sampler:
         while len(out) < low and spare:
             name = spare.pop(rng.randrange(len(spare)))
             out[name] = values[name](rng)
+        for _ in range(4 * low if free is not None else 0):  # bounded: minProperties past the declared names
+            if len(out) >= low:
+                break
+            key = free(rng)  # type: ignore[misc]
+            if isinstance(key, str) and key not in out and not shape.for_key(key).never:
+                out[key] = sampler_for(shape.for_key(key))(rng)
         if high is not None and len(out) > high:
             keep = set(required) | {n for t, needs in depends.items() if t in out for n in needs}
             for name in [n for n in out if n not in keep]:

@@ -165,17 +165,19 @@ def _objects(shape: Shape) -> st.SearchStrategy[dict]:
     for pattern in shape.pattern_keys:
         keys = st.from_regex(_ecma.translate(pattern), alphabet=ascii_chars).filter(functools.partial(_ecma.search, pattern))
         extras.append((keys, shape.for_key))
-    if shape.extra is not None and (shape.extra.parts or shape.names is not None):
+    low, high = shape.min_props, shape.max_props
+    if shape.extra is not None and (shape.extra.parts or shape.names is not None or low > len(shape.declared)):
         keys = strategy_for(shape.names).filter(lambda k: isinstance(k, str)) if shape.names is not None else st.text(
             "abcdefghijklmnopqrstuvwxyz_", min_size=1, max_size=8)
         extras.append((keys, shape.for_key))
     depends = shape.depends
+    most = max(2, low)
 
     @st.composite
     def build(draw: Any) -> dict:
         out = draw(fixed)
         for keys, value_shape in extras:
-            for key in draw(st.lists(keys, max_size=2, unique=True)):
+            for key in draw(st.lists(keys, max_size=most, unique=True)):
                 target = value_shape(key)
                 if key not in out and not target.never:
                     out[key] = draw(strategy_for(target))
@@ -186,7 +188,6 @@ def _objects(shape: Shape) -> st.SearchStrategy[dict]:
                         out[name] = draw(strategy_for(shape.for_key(name)))
         return out
 
-    low, high = shape.min_props, shape.max_props
     if low == 0 and high is None:
         return build()
     return build().filter(lambda v: len(v) >= low and (high is None or len(v) <= high))

@@ -34,7 +34,7 @@ Path = tuple[Any, ...]
 #: How many made-up keys or items may nest inside one another on one path.
 _SYNTHETIC_NESTING = 2
 #: Names tried for a made-up extra key (the first that no property or pattern claims).
-_EXTRA_KEYS = ("feeler_extra", "zz_feeler", "x_feeler_9")
+_EXTRA_KEYS = ("feeler_extra", "extra", "zz")
 
 
 @dataclass(frozen=True)
@@ -55,7 +55,9 @@ class Site:
     """One document node applied to one location of an instance.
 
     :param key_mode: the value is a property *name* (under ``propertyNames``); ``put`` renames it.
-    :param branch: locations of the ``anyOf``/``oneOf`` keywords whose branch this site lies in.
+    :param branch: locations of the ``anyOf``/``oneOf`` keywords whose branch this site lies in, and of
+        the ``then``/``else`` it lies in (the conditional context: a no-go case inside an ``anyOf``/``oneOf``
+        branch must be valid under no branch).
     :param under: set inside an ``unevaluated*`` subschema (see :class:`Under`).
     """
 
@@ -134,7 +136,8 @@ class _Walker:
         if "if" in node.kw:
             # jsonschema reports then/else errors under "then"/"else" with no "if" segment.
             outcome = "then" if self.ts.valid_under(node.kw["if"], value) else "else"
-            yield from self.visit(node.child(outcome), vpath + (outcome,), path, value, put, key_mode, branch, under, made)
+            yield from self.visit(node.child(outcome), vpath + (outcome,), path, value, put, key_mode,
+                                  branch + (node.at + "/" + outcome,), under, made)  # fmt: skip
 
     # -- objects ------------------------------------------------------------------------------------------
     def _made_key(self, node: Node, value: dict, put: Callable[[Any], Any], key: str | None) -> tuple[dict, Any] | None:
@@ -147,6 +150,18 @@ class _Walker:
             return None
         grown = {**value, key: made}
         return (grown, made) if self.ts.is_valid(put(grown)) else None
+
+    def _extra_keys(self, node: Node, claimed: Any, patterns: list[str]) -> list[str]:
+        """Names for a made-up key that no property or pattern claims (a propertyNames example first)."""
+        names = self.model.shape_of(node).names
+        first: list[str] = []
+        if names is not None:
+            try:
+                made = example(names)
+                first = [made] if isinstance(made, str) else []
+            except Unbuildable:
+                pass
+        return [k for k in (*first, *_EXTRA_KEYS) if k not in claimed and not any(_ecma.search(p, k) for p in patterns)][:3]
 
     def _object(self, node: Node, vpath: Path, path: Path, value: dict, put: Callable[[Any], Any],
                 args: tuple[Any, Any], made: int) -> Iterator[Site]:  # fmt: skip
@@ -176,10 +191,11 @@ class _Walker:
             for name in names:
                 yield from into(extra, vpath + ("additionalProperties",), name, value, under, made)
             if not names and can_make:
-                key = next((k for k in _EXTRA_KEYS if k not in props and not any(_ecma.search(p, k) for p in patterns)), None)
-                grown = self._made_key(node, value, put, key)
-                if grown is not None:
-                    yield from into(extra, vpath + ("additionalProperties",), key, grown[0], under, made + 1)  # type: ignore[arg-type]
+                for key in self._extra_keys(node, props, patterns):
+                    grown = self._made_key(node, value, put, key)
+                    if grown is not None:
+                        yield from into(extra, vpath + ("additionalProperties",), key, grown[0], under, made + 1)
+                        break
         for keyword in ("dependentSchemas", "dependencies"):
             for name, sub in node.children(keyword):
                 if not isinstance(sub.raw, dict):
@@ -204,10 +220,11 @@ class _Walker:
             names = [n for n in value if n not in claimed and not any(_ecma.search(p, n) for p in shape.pattern_keys)]
             holder, depth = value, made
             if not names and can_make:
-                key = next((k for k in _EXTRA_KEYS if k not in claimed and not any(_ecma.search(p, k) for p in shape.pattern_keys)), None)
-                grown = self._made_key(node, value, put, key)
-                if grown is not None:
-                    holder, names, depth = grown[0], [key], made + 1
+                for key in self._extra_keys(node, claimed, shape.pattern_keys):
+                    grown = self._made_key(node, value, put, key)
+                    if grown is not None:
+                        holder, names, depth = grown[0], [key], made + 1
+                        break
             for name in names[:1]:
                 inner = Under("unevaluatedProperties", vpath, path, rest, vpath + ("unevaluatedProperties",), path + (name,))
                 yield from into(rest, vpath + ("unevaluatedProperties",), name, holder, inner, depth)

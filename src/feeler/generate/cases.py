@@ -141,31 +141,53 @@ def _filled(ts: ToolSchema, value: Any, rounds: int = 3) -> Any:
 _BRANCH_BASES = 24
 
 
-def _routes(ts: ToolSchema, instance: Any) -> Iterator[tuple[Site, str, Any]]:
-    """``(site, route, node)`` for each ``anyOf``/``oneOf`` branch and ``if`` outcome at a site *instance*
-    reaches; ``route`` names it (``/anyOf/1``, ``/if/else``)."""
-    for site in sites(ts, instance):
-        if site.key_mode:
-            continue
+Route = tuple[Site, str, Any, tuple[Any, ...]]
+
+
+def _routes(ts: ToolSchema, instance: Any) -> list[Route]:
+    """``(site, route, node, peers)`` for each ``anyOf``/``oneOf`` branch, ``if`` outcome and declared
+    property at a site *instance* reaches; ``route`` names it (``/anyOf/1``, ``/if/else``,
+    ``/properties/name``); ``peers`` are all the nodes that apply at the site's instance location."""
+    walked = [s for s in sites(ts, instance) if not s.key_mode]
+    at_path: dict[tuple[Any, ...], list[Site]] = {}
+    for site in walked:
+        at_path.setdefault(site.path, []).append(site)
+    out: list[Route] = []
+    for site in walked:
+        # The nodes that apply here whatever the branches: those of this site's context and the ones around it.
+        here = tuple(s.node for s in at_path[site.path] if site.branch[: len(s.branch)] == s.branch)
+        if isinstance(site.value, dict):
+            out.extend((site, "/properties/" + name, node, here) for name, node in site.node.children("properties"))
         for keyword in ("anyOf", "oneOf"):
-            for i, branch in site.node.children(keyword):
-                yield site, f"/{keyword}/{i}", branch
+            out.extend((site, f"/{keyword}/{i}", branch, here) for i, branch in site.node.children(keyword))
         if "if" in site.kw:
-            yield site, "/if/then", site.node.child("then")
-            yield site, "/if/else", site.node.child("else")
+            out.append((site, "/if/then", site.node.child("then"), here))
+            out.append((site, "/if/else", site.node.child("else"), here))
+    return out
 
 
 def _taken(ts: ToolSchema, site: Site, route: str, node: Any) -> bool:
+    if route.startswith("/properties/"):
+        return route[len("/properties/"):] in site.value
     if route.startswith("/if/"):
         met = ts.valid_under(site.kw["if"], site.value)
         return met == route.endswith("then")
     return ts.valid_under(node.raw, site.value)
 
 
-def _through(ts: ToolSchema, site: Site, route: str, node: Any) -> Any:
-    """The instance with *site*'s value rebuilt to go through *route* (None when none is found)."""
-    shape = model_of(ts).shape_of(site.node)
-    if route.startswith("/if/"):
+def _covered(ts: ToolSchema, instance: Any) -> set[tuple[str, str]]:
+    return {(s.pointer, r) for s, r, n, _ in _routes(ts, instance) if n is not None and _taken(ts, s, r, n)}
+
+
+def _through(ts: ToolSchema, site: Site, route: str, node: Any, peers: tuple[Any, ...]) -> Any:
+    """The instance with the value at *site*'s location rebuilt (from every node that applies there) to
+    go through *route*; None when none is found."""
+    shape = model_of(ts).shape(peers)
+    if route.startswith("/properties/"):
+        # An optional property no base carries (kept out by maxProperties, a dependency, a branch...).
+        name = route[len("/properties/"):]
+        choice, want = shape, (lambda v: isinstance(v, dict) and name in v)  # noqa: E731
+    elif route.startswith("/if/"):
         if_node = site.node.child("if")
         then = route.endswith("then")
         choice = shape.choose(site.pointer + "/if", if_node, node) if then else shape.choose(site.pointer + "/if", node)
@@ -173,19 +195,27 @@ def _through(ts: ToolSchema, site: Site, route: str, node: Any) -> Any:
     else:
         choice = shape.choose(site.pointer + route.rpartition("/")[0], node)
         want = (lambda v: ts.valid_under(node.raw, v))  # noqa: E731
+
+
+    def fits(value: Any) -> bool:
+        # The whole instance stays valid and still reaches this site in its context (the then/else, the
+        # branch it lies in) through the route asked for.
+        if not want(value):
+            return False
+        whole = site.put(value)
+        return ts.is_valid(whole) and (site.pointer, route) in _covered(ts, whole)
+
     try:
-        value = find_value(choice, want)
+        return site.put(find_value(choice, fits))
     except Unbuildable:
         return None
-    whole = site.put(value)
-    return whole if ts.is_valid(whole) else None
 
 
 def base_instances(ts: ToolSchema) -> list[Any]:
     """Valid instances to build cases from, oracle-checked: the fullest and the smallest (one if they
-    coincide), then one through each ``if`` outcome and each ``anyOf``/``oneOf`` branch the others miss
-    (JSON Schema 2020-12 core 10.2.1-10.2.2), so no-go cases break ``then`` and ``else`` keywords and
-    keywords inside every branch.
+    coincide), then one through each ``if`` outcome, each ``anyOf``/``oneOf`` branch and each declared
+    property the others miss (JSON Schema 2020-12 core 10.2.1-10.2.2, 10.3.2.1), so no-go cases break
+    ``then`` and ``else`` keywords, keywords inside every branch, and properties no base carried.
 
     :raises SchemaProblem: ``unsatisfiable`` when neither construction nor search finds a valid value.
     """
@@ -218,18 +248,18 @@ def base_instances(ts: ToolSchema) -> list[Any]:
     covered: set[tuple[str, str]] = set()
     tried: set[tuple[str, str]] = set()
     for base in out:
-        covered |= {(s.pointer, r) for s, r, n in _routes(ts, base) if n is not None and _taken(ts, s, r, n)}
+        covered |= _covered(ts, base)
     index = 0
     while index < len(out) and len(out) < 2 + _BRANCH_BASES:  # bounded: at most _BRANCH_BASES are added
-        for site, route, node in list(_routes(ts, out[index])):
+        for site, route, node, peers in _routes(ts, out[index]):
             key = (site.pointer, route)
             if node is None or key in covered or key in tried or len(out) >= 2 + _BRANCH_BASES:
                 continue
             tried.add(key)
-            made = _through(ts, site, route, node)
+            made = _through(ts, site, route, node, peers)
             if made is not None and all(canonical_dumps(made) != canonical_dumps(v) for v in out):
                 out.append(made)
-                covered |= {(s.pointer, r) for s, r, n in _routes(ts, made) if n is not None and _taken(ts, s, r, n)}
+                covered |= _covered(ts, made)
         index += 1
     return out
 

@@ -22,6 +22,7 @@ import math
 from collections.abc import Callable, Iterator
 from typing import Any
 
+from feeler.generate import _ecma
 from feeler.generate._build import Unbuildable, example, find_value, variants
 from feeler.generate._formats import FORMAT_NEAR_MISSES
 from feeler.generate._model import Shape, model_of
@@ -91,21 +92,30 @@ def required(ts: ToolSchema, site: Site, names: list[str]) -> Iterator[Any]:
                 yield {k: v for k, v in site.value.items() if k != name}
 
 
-def _unknown_key(site: Site) -> Iterator[Any]:
+#: Names tried for an unknown key, in order: the first that no property declares and no pattern matches.
+_UNKNOWN_KEYS = (UNKNOWN_KEY, "Feeler-Unknown", "9 unknown!")
+
+
+def _unknown_key(ts: ToolSchema, site: Site) -> Iterator[Any]:
     if isinstance(site.value, dict):
-        yield {**site.value, UNKNOWN_KEY: "unexpected"}
+        shape = _shape(ts, site)
+        for key in _UNKNOWN_KEYS:
+            if key not in site.value and key not in shape.declared and not any(_ecma.search(p, key) for p in shape.pattern_keys):
+                yield {**site.value, key: "unexpected"}
+                return
 
 
 def additionalProperties(ts: ToolSchema, site: Site, spec: Any) -> Iterator[Any]:
-    """An unknown key where ``additionalProperties`` is false (a schema form is walked into instead)."""
+    """An unknown key (one no ``patternProperties`` matches) where ``additionalProperties`` is false (a
+    schema form is walked into instead)."""
     if spec is False:
-        yield from _unknown_key(site)
+        yield from _unknown_key(ts, site)
 
 
 def unevaluatedProperties(ts: ToolSchema, site: Site, spec: Any) -> Iterator[Any]:
     """An unknown key where ``unevaluatedProperties`` is false."""
     if spec is False:
-        yield from _unknown_key(site)
+        yield from _unknown_key(ts, site)
 
 
 def enum(ts: ToolSchema, site: Site, members: list[Any]) -> Iterator[Any]:
@@ -346,7 +356,9 @@ def _overlaps(ts: ToolSchema, site: Site) -> Iterator[Any]:
         for second in branches[i + 1 :]:
             both = shape.choose(location, first, second)
             try:
-                yield find_value(both, lambda v, a=first, b=second: ts.valid_under(a.raw, v) and ts.valid_under(b.raw, v))
+                # Construction and the seeded sampler only: a hypothesis search per pair costs seconds.
+                yield find_value(both, lambda v, a=first, b=second: ts.valid_under(a.raw, v) and ts.valid_under(b.raw, v),
+                                 search=False)  # fmt: skip
             except Unbuildable:
                 continue
 
