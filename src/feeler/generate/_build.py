@@ -187,13 +187,25 @@ def example(shape: Shape, full: bool = False, _nesting: int = 0) -> Any:
 
     :raises Unbuildable: neither construction nor a bounded search found a valid value.
     """
-    try:
-        value = build(shape, full, _nesting)
-        if shape.accepts(value):
-            return value
-    except Unbuildable:
-        pass
-    return find_value(shape)
+    # Kept on the shape (deterministic): a shape met again, above all one that has no value, costs nothing.
+    key = "_example_full" if full else "_example"
+    if key not in shape.__dict__:
+        found: tuple[Any] | None
+        try:
+            value = build(shape, full, _nesting)
+            if not shape.accepts(value):
+                raise Unbuildable
+            found = (value,)
+        except Unbuildable:
+            try:
+                found = (find_value(shape),)
+            except Unbuildable:
+                found = None
+        shape.__dict__[key] = found
+    found = shape.__dict__[key]
+    if found is None:
+        raise Unbuildable
+    return copy.deepcopy(found[0])
 
 
 def find_value(shape: Shape, want: Callable[[Any], bool] | None = None, seed: int = 0, search: bool = True) -> Any:

@@ -36,6 +36,8 @@ Sampler = Callable[[random.Random], Any]
 
 #: Tries per shape before a filtered sampler gives up on this value.
 _TRIES = 8
+#: Refused draws (and an empty pool) after which a filtered sampler that never succeeded stops trying.
+_GIVE_UP = 64
 #: Unbounded sizes are capped this far above the lower bound: tool arguments are small.
 _SPAN = 4
 #: Unbounded numbers are drawn this far from their one bound (or from 0).
@@ -161,20 +163,32 @@ def _choice(branches: list[Sampler]) -> Sampler:
 
 def _filtered(shape: Shape, inner: Sampler, with_pool: bool = True) -> Sampler:
     pool: list[Sampler] = []
+    hits = [0, 0]  # values accepted, draws refused
 
     def sample(rng: random.Random) -> Any:
+        if not hits[0] and hits[1] >= _GIVE_UP:
+            raise Unbuildable  # nothing was ever accepted here, nor found by the pool: stop paying for it
         for _ in range(_TRIES):
             try:
                 value = inner(rng)
             except (_Miss, Unbuildable):
+                hits[1] += 1
                 continue
             if shape.accepts(value):
+                hits[0] += 1
                 return value
+            hits[1] += 1
         if not with_pool:
             raise _Miss
         if not pool:
             pool.append(_pool(shape))
-        return pool[0](rng)
+        try:
+            value = pool[0](rng)
+        except Unbuildable:
+            hits[1] = max(hits[1], _GIVE_UP)
+            raise
+        hits[0] += 1
+        return value
 
     return sample
 

@@ -14,6 +14,7 @@ counted in :class:`Tally`.
 
 from __future__ import annotations
 
+import copy
 import random
 from collections.abc import Iterator
 from dataclasses import dataclass, field
@@ -220,6 +221,18 @@ def base_instances(ts: ToolSchema) -> list[Any]:
     :raises SchemaProblem: ``unsatisfiable`` when neither construction nor search finds a valid value.
     """
     ts = compile_schema(ts)
+    if "_bases" not in ts.__dict__:  # deterministic: made once per compiled schema
+        try:
+            ts.__dict__["_bases"] = _make_bases(ts)
+        except SchemaProblem as exc:
+            ts.__dict__["_bases"] = exc
+    made = ts.__dict__["_bases"]
+    if isinstance(made, SchemaProblem):
+        raise made
+    return copy.deepcopy(made)
+
+
+def _make_bases(ts: ToolSchema) -> list[Any]:
     out: list[Any] = []
     found = []
     root = model_of(ts).root_shape
