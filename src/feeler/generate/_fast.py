@@ -30,7 +30,7 @@ from feeler.generate._regex import _c, _p, regex_example
 from feeler.generate._schema import ToolSchema
 from feeler.generate._strategies import Unbuildable, searched_examples
 
-__all__ = ["fast_values", "sampler_for"]
+__all__ = ["Miss", "ObjectPlan", "fast_values", "sampler_for", "typed_sampler"]
 
 Sampler = Callable[[random.Random], Any]
 
@@ -54,6 +54,10 @@ _LABEL = string.ascii_lowercase + string.digits
 
 class _Miss(Exception):
     """This draw did not satisfy the shape; the caller draws again."""
+
+
+#: What a sampler raises when one draw missed (besides Unbuildable): for callers that draw again.
+Miss = _Miss
 
 
 def sampler_for(shape: Shape, pool: bool = True) -> Sampler:
@@ -530,66 +534,91 @@ def _array(shape: Shape) -> Sampler:
     return sample
 
 
-def _object(shape: Shape) -> Sampler:
-    required = shape.required
-    depends = shape.depends
-    low, high = shape.min_props, shape.max_props
-    for name in required:
-        if shape.for_key(name).never:
-            raise Unbuildable
-    names = list(dict.fromkeys([*required, *shape.declared, *(n for v in depends.values() for n in v)]))
-    values = {name: sampler_for(shape.for_key(name)) for name in names}
-    optional = [n for n in shape.declared if n not in required and not shape.for_key(n).never]
-    extras: list[tuple[Sampler, Callable[[str], Shape]]] = []
-    for pattern in shape.pattern_keys:
-        try:
-            extras.append((_text_sampler(0, None, [], [pattern]), shape.for_key))
-        except Unbuildable:
-            continue
-    free: Sampler | None = None
-    if shape.extra is not None:
-        free = sampler_for(shape.names) if shape.names is not None else _key
-        if shape.extra.parts or shape.names is not None:
-            extras.append((free, shape.for_key))
+class ObjectPlan:
+    """How objects of one shape are sampled: the names, a sampler per value, the extra keys."""
 
-    def sample(rng: random.Random) -> dict:
-        out = {name: values[name](rng) for name in required}
-        for name in optional:
-            if rng.random() < 0.5:
-                try:
-                    out[name] = values[name](rng)
-                except (_Miss, Unbuildable):
-                    continue  # optional: an unsatisfiable or unlucky property is left out
-        for keys, value_shape in extras:
+    def __init__(self, shape: Shape) -> None:
+        self.shape = shape
+        self.required = shape.required
+        self.depends = shape.depends
+        self.low, self.high = shape.min_props, shape.max_props
+        for name in self.required:
+            if shape.for_key(name).never:
+                raise Unbuildable
+        names = list(dict.fromkeys([*self.required, *shape.declared, *(n for v in self.depends.values() for n in v)]))
+        self.values = {name: sampler_for(shape.for_key(name)) for name in names}
+        self.optional = [n for n in shape.declared if n not in self.required and not shape.for_key(n).never]
+        self.extras: list[Sampler] = []
+        for pattern in shape.pattern_keys:
+            try:
+                self.extras.append(_text_sampler(0, None, [], [pattern]))
+            except Unbuildable:
+                continue
+        self.free: Sampler | None = None
+        if shape.extra is not None:
+            self.free = sampler_for(shape.names) if shape.names is not None else _key
+            if shape.extra.parts or shape.names is not None:
+                self.extras.append(self.free)
+
+    def _add(self, out: dict, keys: Sampler, rng: random.Random) -> None:
+        key = keys(rng)
+        if isinstance(key, str) and key not in out and not self.shape.for_key(key).never:
+            out[key] = sampler_for(self.shape.for_key(key))(rng)
+
+    def finish(self, out: dict, rng: random.Random, extras: bool = True) -> dict:
+        """*out* (the required and some optional properties) with extra keys (when *extras*), the
+        properties ``dependentRequired`` asks for, and within ``minProperties``/``maxProperties``."""
+        for keys in self.extras if extras else ():
             if rng.random() < 0.3:
                 for _ in range(rng.randint(1, 2)):
-                    key = keys(rng)
-                    if isinstance(key, str) and key not in out and not value_shape(key).never:
-                        out[key] = sampler_for(value_shape(key))(rng)
-        for trigger, needs in depends.items():
+                    self._add(out, keys, rng)
+        spare = [n for n in self.optional if n not in out]
+        while len(out) < self.low and spare:
+            name = spare.pop(rng.randrange(len(spare)))
+            out[name] = self.values[name](rng)
+        for _ in range(4 * self.low if self.free is not None else 0):  # bounded: minProperties past the declared names
+            if len(out) >= self.low:
+                break
+            self._add(out, self.free, rng)  # type: ignore[arg-type]
+        for trigger, needs in self.depends.items():
             if trigger in out:
                 for name in needs:
                     if name not in out:
-                        out[name] = values[name](rng)
-        spare = [n for n in optional if n not in out]
-        while len(out) < low and spare:
-            name = spare.pop(rng.randrange(len(spare)))
-            out[name] = values[name](rng)
-        for _ in range(4 * low if free is not None else 0):  # bounded: minProperties past the declared names
-            if len(out) >= low:
-                break
-            key = free(rng)  # type: ignore[misc]
-            if isinstance(key, str) and key not in out and not shape.for_key(key).never:
-                out[key] = sampler_for(shape.for_key(key))(rng)
-        if high is not None and len(out) > high:
-            keep = set(required) | {n for t, needs in depends.items() if t in out for n in needs}
+                        out[name] = self.values[name](rng)
+        if self.high is not None and len(out) > self.high:
+            keep = set(self.required) | {n for t, needs in self.depends.items() if t in out for n in needs}
             for name in [n for n in out if n not in keep]:
-                if len(out) <= high:
+                if len(out) <= self.high:
                     break
                 del out[name]
+            if len(out) > self.high:
+                raise _Miss  # the required properties and what they depend on do not fit: draw again
         return out
 
+
+def _object(shape: Shape) -> Sampler:
+    plan = ObjectPlan(shape)
+
+    def sample(rng: random.Random) -> dict:
+        out = {name: plan.values[name](rng) for name in plan.required}
+        for name in plan.optional:
+            if rng.random() < 0.5:
+                try:
+                    out[name] = plan.values[name](rng)
+                except (_Miss, Unbuildable):
+                    continue  # optional: an unsatisfiable or unlucky property is left out
+        return plan.finish(out, rng)
+
     return sample
+
+
+def typed_sampler(shape: Shape, kind: str) -> Sampler:
+    """A sampler of values of JSON type *kind* for *shape* (filtered by its oracle where it is not exact).
+
+    :raises Unbuildable: the shape allows no such value by construction.
+    """
+    inner = _TYPES[kind](shape)
+    return inner if shape.exact else _filtered(shape, inner, False)
 
 
 def _key(rng: random.Random) -> str:

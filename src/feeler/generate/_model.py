@@ -451,6 +451,8 @@ class Shape:
         :meth:`accepts`."""
         if self.dynamic or self.keywords - _EXACT or self.groups("anyOf") or self.groups("oneOf"):
             return False
+        if self.dependent_schemas:  # draft-07 "dependencies" in its schema form
+            return False
         if len(self.patterns) + len(self.formats) > 1 or any(f not in EXACT_FORMATS for f in self.formats):
             return False
         if self.formats and ("minLength" in self.keywords or "maxLength" in self.keywords):

@@ -28,7 +28,7 @@ from feeler.generate import _ecma
 from feeler.generate._formats import format_strategies
 from feeler.generate._model import TYPES, Shape
 
-__all__ = ["Unbuildable", "draws", "searched_example", "searched_examples", "strategy_for"]
+__all__ = ["TYPE_STRATEGIES", "Unbuildable", "draws", "searched_example", "searched_examples", "strategy_for"]
 
 #: Unbounded sizes are capped this far above the lower bound: tool arguments are small.
 _SPAN = 4
@@ -69,7 +69,7 @@ def _strategy(shape: Shape) -> st.SearchStrategy[Any]:
         location, if_, then, else_ = shape.conditionals[0]
         outcomes = [strategy_for(shape.choose(location, if_, then)), strategy_for(shape.choose(location, else_))]
         return _checked(shape, st.one_of(outcomes))
-    parts = [_TYPE_STRATEGIES[kind](shape) for kind in shape.types]
+    parts = [TYPE_STRATEGIES[kind](shape) for kind in shape.types]
     return _checked(shape, st.one_of(parts))
 
 
@@ -198,7 +198,7 @@ def _json_values() -> st.SearchStrategy[Any]:
     return st.recursive(scalars, lambda inner: st.lists(inner, max_size=3) | st.dictionaries(st.text(max_size=5), inner, max_size=3), max_leaves=6)
 
 
-_TYPE_STRATEGIES: dict[str, Callable[[Shape], st.SearchStrategy[Any]]] = {
+TYPE_STRATEGIES: dict[str, Callable[[Shape], st.SearchStrategy[Any]]] = {
     "null": lambda shape: st.none(),
     "boolean": lambda shape: st.booleans(),
     "integer": _integers,
@@ -207,7 +207,7 @@ _TYPE_STRATEGIES: dict[str, Callable[[Shape], st.SearchStrategy[Any]]] = {
     "array": _arrays,
     "object": _objects,
 }
-assert set(_TYPE_STRATEGIES) == set(TYPES)
+assert set(TYPE_STRATEGIES) == set(TYPES)
 
 
 def searched_example(shape: Shape) -> Any:

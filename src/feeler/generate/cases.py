@@ -26,11 +26,12 @@ from jsonschema.exceptions import ValidationError
 
 from feeler._json import canonical_dumps, json_path, to_pointer
 from feeler.errors import SchemaProblem
+from feeler.generate._arguments import arguments_strategy
 from feeler.generate._build import Unbuildable, build, example, find_value
 from feeler.generate._fast import fast_values
 from feeler.generate._model import compile_schema, model_of
 from feeler.generate._schema import ToolSchema
-from feeler.generate._strategies import draws, strategy_for
+from feeler.generate._strategies import draws
 from feeler.generate._walk import Site, sites
 from feeler.generate.boundaries import BOUND_KEYWORDS, BOUNDARIES
 from feeler.generate.mutators import MUTATORS
@@ -472,15 +473,15 @@ def _prove(ts: ToolSchema, site: Site, keyword: str, arguments: Any) -> tuple[Ca
 def arguments(schema: Any, *, recursion_depth: int | None = None) -> st.SearchStrategy[Any]:
     """A hypothesis strategy of arguments *schema* accepts; every value passes the oracle.
 
-    Built by construction from the compiled model (:mod:`._strategies`): fast, and it shrinks towards
-    the smallest object. Parts the construction does not satisfy by itself (``not``, ``if``,
-    ``contains``...) are filtered by their own oracle; hypothesis-jsonschema is never used. Works with
-    hypothesis' example database and shrinking like any strategy.
+    Built from the compiled model with few hypothesis choices per example (:mod:`._arguments`: which
+    optional properties, one seed for the values, a branch), so it is fast, and it shrinks towards the
+    smallest object (the required properties only, each at its smallest value). Parts not satisfied by
+    construction (``not``, ``if``, ``contains``...) are filtered by their own oracle; hypothesis-jsonschema
+    is never used. Works with hypothesis' example database and shrinking like any strategy.
 
     :raises SchemaProblem: the schema cannot be used (see :class:`ToolSchema`).
     """
     ts = compile_schema(schema, recursion_depth=recursion_depth)
-    root = model_of(ts).root_shape
-    strategy = strategy_for(root)
-    # An inexact root is already filtered by its oracle (Shape.accepts); an exact one is checked once more.
-    return strategy.filter(ts.is_valid) if root.exact else strategy
+    # Filtered by the oracle exactly where the model is not valid by construction (Shape.exact); the
+    # tests hold every drawn value to an independent validator (tests/generate/test_gen_strategy.py).
+    return arguments_strategy(model_of(ts).root_shape)

@@ -1,0 +1,154 @@
+"""The hypothesis strategy behind :func:`feeler.generate.arguments`: few choices per example, shrinking
+towards the smallest object.
+
+hypothesis pays its engine cost per choice (each integer, each character, each "is this optional
+property present?"), so a strategy assembled choice by choice from the schema is slow. Here each shape
+of the compiled model (:mod:`._model`) is drawn with as few choices as keep shrinking meaningful:
+
+- an object: one integer whose bits say which optional properties are present (it shrinks to 0: the
+  required properties only) and one seed for the values (it shrinks to 0: every value the smallest one
+  the builders make, :func:`._build.example`); other seeds draw the values from the seeded samplers
+  (:mod:`._fast`), dependencies, extra keys and the property counts included (``ObjectPlan``);
+- a string or an array: one seed (0: the smallest value; others: the sampler);
+- integers, numbers, booleans, null, ``enum``/``const``: hypothesis' own strategies (one choice, exact shrinking);
+- ``anyOf``/``oneOf``: one choice of branch (it shrinks to the first); ``if``: one choice of outcome.
+
+Values are valid by construction where the shape is exact (:attr:`~._model.Shape.exact`); elsewhere
+they are filtered by the shape's oracle. Only public hypothesis strategies are used.
+"""
+
+from __future__ import annotations
+
+import copy
+import random
+from typing import Any
+
+from hypothesis import strategies as st
+
+from feeler.generate._build import example
+from feeler.generate._fast import Miss, ObjectPlan, typed_sampler
+from feeler.generate._model import Shape
+from feeler.generate._strategies import TYPE_STRATEGIES, Unbuildable, strategy_for
+
+__all__ = ["arguments_strategy"]
+
+_SEEDS = st.integers(0, 2**32 - 1)
+#: Stands for "no value this time" inside a map; filtered out right after.
+_NONE = object()
+#: Types drawn with hypothesis' own strategies (one choice each, and they shrink exactly).
+_NATIVE = ("integer", "number", "boolean", "null")
+
+
+def arguments_strategy(shape: Shape) -> st.SearchStrategy[Any]:
+    """The strategy of values valid against *shape* (made once per shape and kept on it)."""
+    found = shape.__dict__.get("_arguments")
+    if found is None:
+        found = shape.__dict__["_arguments"] = _strategy(shape)
+    return found
+
+
+def _some(strategy: st.SearchStrategy[Any]) -> st.SearchStrategy[Any]:
+    return strategy.filter(lambda v: v is not _NONE)
+
+
+def _checked(shape: Shape, strategy: st.SearchStrategy[Any]) -> st.SearchStrategy[Any]:
+    return strategy if shape.exact else strategy.filter(shape.accepts)
+
+
+def _strategy(shape: Shape) -> st.SearchStrategy[Any]:
+    if shape.never:
+        return st.nothing()
+    if not shape.parts or shape.members is not None:
+        return strategy_for(shape)
+    for keyword in ("anyOf", "oneOf"):
+        groups = shape.groups(keyword)
+        if groups:
+            location, branches = groups[0]
+            return _checked(shape, st.one_of([arguments_strategy(shape.choose(location, b)) for b in branches]))
+    if shape.conditionals:
+        location, if_, then, else_ = shape.conditionals[0]
+        outcomes = [arguments_strategy(shape.choose(location, if_, then)), arguments_strategy(shape.choose(location, else_))]
+        return _checked(shape, st.one_of(outcomes))
+    parts = []
+    for kind in shape.types:
+        try:
+            parts.append(TYPE_STRATEGIES[kind](shape) if kind in _NATIVE else _object(shape) if kind == "object" else _seeded(shape, kind))
+        except Unbuildable:
+            continue
+    return _checked(shape, st.one_of(parts)) if parts else st.nothing()
+
+
+def _smallest(shape: Shape, kind: str | None = None) -> Any:
+    """The smallest value the builders make for *shape* (of JSON type *kind*), or _NONE."""
+    try:
+        value = example(shape)
+    except Unbuildable:
+        return _NONE
+    if kind is not None and _kind(value) != kind and not (kind == "number" and _kind(value) == "integer"):
+        return _NONE
+    return value
+
+
+def _kind(value: Any) -> str:
+    if value is None:
+        return "null"
+    if isinstance(value, bool):
+        return "boolean"
+    if isinstance(value, int):
+        return "integer"
+    if isinstance(value, float):
+        return "number"
+    return {str: "string", list: "array", dict: "object"}[type(value)]
+
+
+def _seeded(shape: Shape, kind: str) -> st.SearchStrategy[Any]:
+    """One seed: 0 gives the smallest value, any other a sampled one."""
+    sample = typed_sampler(shape, kind)
+
+    def make(seed: int) -> Any:
+        if seed == 0:
+            smallest = _smallest(shape, kind)
+            if smallest is not _NONE:
+                return smallest
+        try:
+            return sample(random.Random(seed))
+        except (Miss, Unbuildable):
+            return _NONE
+
+    return _some(_SEEDS.map(make))
+
+
+def _object(shape: Shape) -> st.SearchStrategy[dict]:
+    """Which optional properties (one integer, bit i for the i-th) and the values (one seed)."""
+    plan = ObjectPlan(shape)
+    optional = plan.optional
+    smallest: dict[str, Any] = {}
+
+    def value(name: str, seed: int, rng: random.Random) -> Any:
+        if seed:
+            try:
+                return plan.values[name](rng)
+            except (Miss, Unbuildable):
+                pass  # this draw missed: the smallest value instead
+        if name not in smallest:
+            smallest[name] = _smallest(shape.for_key(name))
+        return copy.deepcopy(smallest[name])
+
+    def make(choice: tuple[int, int]) -> Any:
+        mask, seed = choice
+        rng = random.Random(seed)
+        out: dict[str, Any] = {}
+        for name in plan.required:
+            out[name] = value(name, seed, rng)
+        for i, name in enumerate(optional):
+            if mask >> i & 1:
+                out[name] = value(name, seed, rng)
+        if any(v is _NONE for v in out.values()):
+            return _NONE
+        try:
+            return plan.finish(out, rng, extras=seed != 0)
+        except (Miss, Unbuildable):
+            return _NONE
+
+    masks = st.integers(0, 2 ** len(optional) - 1) if optional else st.just(0)
+    return _some(st.tuples(masks, _SEEDS).map(make))
