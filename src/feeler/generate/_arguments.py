@@ -25,6 +25,7 @@ from typing import Any
 
 from hypothesis import strategies as st
 
+from feeler._json import json_type
 from feeler.generate._build import example
 from feeler.generate._fast import Miss, ObjectPlan, typed_sampler
 from feeler.generate._model import Shape
@@ -84,21 +85,9 @@ def _smallest(shape: Shape, kind: str | None = None) -> Any:
         value = example(shape)
     except Unbuildable:
         return _NONE
-    if kind is not None and _kind(value) != kind and not (kind == "number" and _kind(value) == "integer"):
+    if kind is not None and json_type(value) != kind and not (kind == "number" and json_type(value) == "integer"):
         return _NONE
     return value
-
-
-def _kind(value: Any) -> str:
-    if value is None:
-        return "null"
-    if isinstance(value, bool):
-        return "boolean"
-    if isinstance(value, int):
-        return "integer"
-    if isinstance(value, float):
-        return "number"
-    return {str: "string", list: "array", dict: "object"}[type(value)]
 
 
 def _seeded(shape: Shape, kind: str) -> st.SearchStrategy[Any]:
