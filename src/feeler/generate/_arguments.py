@@ -5,10 +5,11 @@ hypothesis pays its engine cost per choice (each integer, each character, each "
 property present?"), so a strategy assembled choice by choice from the schema is slow. Here each shape
 of the compiled model (:mod:`._model`) is drawn with as few choices as keep shrinking meaningful:
 
-- an object: one integer whose bits say which optional properties are present (it shrinks to 0: the
-  required properties only) and one seed for the values (it shrinks to 0: every value the smallest one
-  the builders make, :func:`._build.example`); other seeds draw the values from the seeded samplers
-  (:mod:`._fast`), dependencies, extra keys and the property counts included (``ObjectPlan``);
+- an object: one integer, whose low bits say which optional properties are present and whose high bits
+  seed the values; it shrinks to 0: the seed first (every value the smallest one the builders make,
+  :func:`._build.example`), then the bits (the required properties only); other seeds draw the values
+  from the seeded samplers (:mod:`._fast`), dependencies, extra keys and property counts included
+  (``ObjectPlan``);
 - a string or an array: one seed (0: the smallest value; others: the sampler);
 - integers, numbers, booleans, null, ``enum``/``const``: hypothesis' own strategies (one choice, exact shrinking);
 - ``anyOf``/``oneOf``: one choice of branch (it shrinks to the first); ``if``: one choice of outcome.
@@ -139,5 +140,8 @@ def _object(shape: Shape) -> st.SearchStrategy[dict]:
         except (Miss, Unbuildable):
             return _NONE
 
-    masks = st.integers(0, 2 ** len(optional) - 1) if optional else st.just(0)
-    return _some(st.tuples(masks, _SEEDS).map(make))
+    # One integer: the low bits choose the optional properties, the high bits are the seed. hypothesis shrinks
+    # an integer towards 0, the high bits first: the values to their smallest, then fewer properties.
+    width = len(optional)
+    choices = st.integers(0, 2 ** (width + 32) - 1).map(lambda n: (n & ((1 << width) - 1), n >> width))
+    return _some(choices.map(make))
