@@ -260,16 +260,17 @@ def _make_bases(ts: ToolSchema) -> list[Any]:
             reason="unsatisfiable",
         )
     covered: set[tuple[str, str]] = set()
-    tried: set[tuple[str, str]] = set()
+    # A route that failed from one base may work from another (an integer branch needs the else outcome).
+    tried: set[tuple[str, str, int]] = set()
     for base in out:
         covered |= _covered(ts, base)
     index = 0
     while index < len(out) and len(out) < 2 + _BRANCH_BASES:  # bounded: at most _BRANCH_BASES are added
         for site, route, node, peers in _routes(ts, out[index]):
             key = (site.pointer, route)
-            if node is None or key in covered or key in tried or len(out) >= 2 + _BRANCH_BASES:
+            if node is None or key in covered or (*key, index) in tried or len(out) >= 2 + _BRANCH_BASES:
                 continue
-            tried.add(key)
+            tried.add((*key, index))
             made = _through(ts, site, route, node, peers)
             if made is not None and all(canonical_dumps(made) != canonical_dumps(v) for v in out):
                 out.append(made)
