@@ -21,7 +21,7 @@ from hypothesis import HealthCheck, Phase, find, given, settings
 from hypothesis.control import currently_in_test_context
 from hypothesis import seed as hypothesis_seed
 from hypothesis import strategies as st
-from hypothesis.errors import NoSuchExample, Unsatisfiable
+from hypothesis.errors import InvalidArgument, NoSuchExample, Unsatisfiable
 
 from feeler._json import canonical_dumps
 from feeler.generate import _ecma
@@ -81,6 +81,8 @@ def _integers(shape: Shape) -> st.SearchStrategy[int]:
     low, _ = shape.bound("low", True)
     high, _ = shape.bound("high", True)
     steps = shape.steps
+    if low is not None and high is not None and low > high:
+        return st.nothing()  # crossed bounds: no integer (a contradiction outside the required places)
     if not steps or not all(float(s).is_integer() for s in steps):
         return st.integers(low, high)
     step = math.lcm(*(int(s) for s in steps)) or 1
@@ -94,6 +96,8 @@ def _integers(shape: Shape) -> st.SearchStrategy[int]:
 def _numbers(shape: Shape) -> st.SearchStrategy[float]:
     low, _ = shape.bound("low", False)
     high, _ = shape.bound("high", False)
+    if low is not None and high is not None and low > high:
+        return st.nothing()
     if shape.steps:
         step = shape.steps[0]
         klow = None if low is None else math.ceil(low / step)
@@ -111,6 +115,8 @@ def _numbers(shape: Shape) -> st.SearchStrategy[float]:
 
 def _strings(shape: Shape) -> st.SearchStrategy[str]:
     low, high = shape.min_length, shape.max_length
+    if high is not None and low > high:
+        return st.nothing()
     fits = lambda s: len(s) >= low and (high is None or len(s) <= high)  # noqa: E731 - code points, as JSON Schema counts
     if shape.formats and shape.formats[0] in _FORMATS:
         return _FORMATS[shape.formats[0]].filter(fits)
@@ -135,6 +141,8 @@ def _arrays(shape: Shape) -> st.SearchStrategy[list]:
     heads = [st.tuples(*(strategy_for(s) for s in prefix[:n])).map(list) for n in range(min(len(prefix), high) + 1) if n >= min(low, len(prefix))]
     head = st.one_of(heads)
     tail_low, tail_high = max(0, low - len(prefix)), max(0, high - len(prefix))
+    if shape.unique and rest.members is not None and len(rest.members) < tail_low:
+        return st.nothing()  # fewer distinct values than unique items needed
     tail = st.lists(strategy_for(rest), min_size=tail_low, max_size=tail_high, unique_by=unique) if not rest.never else st.just([])
 
     def join(h: list, t: list) -> list:
@@ -228,7 +236,7 @@ def searched_example(shape: Shape) -> Any:
             settings=settings(database=None, derandomize=True, max_examples=200, phases=[Phase.generate],
                               suppress_health_check=_QUIET, deadline=None),  # fmt: skip
         )
-    except (NoSuchExample, Unsatisfiable) as exc:
+    except (NoSuchExample, Unsatisfiable, InvalidArgument) as exc:  # InvalidArgument: a strategy that cannot exist
         raise Unbuildable from exc
 
 
