@@ -667,6 +667,18 @@ def test_many_tools(tmp_path: Path) -> None:
         assert len(tools) == 2000 and tools[-1]["name"] == "echo_1999"
 
 
+def test_unsatisfiable_schemas(tmp_path: Path) -> None:
+    with started(tmp_path, script("unsatisfiable_schemas")) as wire:
+        wire.handshake()
+        tools = {t["name"]: t for t in tool_result(wire.call("tools/list"))["tools"]}
+        assert set(tools) == {"crossed_bounds", "enum_off_type", "false_property", "no_value_found", "echo"}
+        for name in ("crossed_bounds", "enum_off_type", "false_property"):
+            Draft202012Validator.check_schema(tools[name]["inputSchema"])  # valid JSON Schema 2020-12, yet accepts nothing
+        assert tool_result(wire.call("tools/call", {"name": "echo", "arguments": {"text": "hi"}}))["content"][0]["text"] == "hi"
+        # JSON-RPC 2.0 section 5.1: -32602 invalid params for a tool the server does not run.
+        assert wire.call("tools/call", {"name": "crossed_bounds", "arguments": {"nights": 3}})["error"]["code"] == -32602
+
+
 def test_ignores_sigterm(tmp_path: Path) -> None:
     with started(tmp_path, script("ignores_sigterm"), env={"FEELER_LINGER_S": "30"}) as wire:
         wire.handshake()

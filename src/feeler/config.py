@@ -63,6 +63,7 @@ _KEYS: dict[str, tuple[tuple[type, ...], str]] = {
     "learn": ((bool,), "true or false (learn values from answers; a discovery pass first)"),
     "chain_runs": ((int,), "a whole number of chain runs (0: no chains)"),
     "chain_steps": ((int,), "a whole number: the most calls in one chain"),
+    "recursion_depth": ((int,), "a whole number: how often generation follows a recursive $ref on one path"),
 }
 
 #: Old key -> its new name; read for one release with a notice (``profile`` values are mapped too).

@@ -40,6 +40,7 @@ OPT_DEPTH = "--feeler-depth"
 OPT_DESTRUCTIVE = "--feeler-allow-destructive"
 OPT_STRICT_GO = "--feeler-strict-go"
 OPT_SAMPLE_SEED = "--feeler-sample-seed"
+OPT_RECURSION_DEPTH = "--feeler-recursion-depth"
 OPT_PROTOCOL_VERSION = "--feeler-protocol-version"
 OPT_APPROVE = "--feeler-approve"
 OPT_OFF = "--feeler-off"
@@ -67,6 +68,8 @@ def pytest_addoption(parser: pytest.Parser) -> None:
                     help="Also call tools annotated destructiveHint: true. Never against production.")  # fmt: skip
     group.addoption(OPT_STRICT_GO, action="store_true", default=False, help="isError on a go case fails the item.")
     group.addoption(OPT_SAMPLE_SEED, type=int, default=None, help="Seed of the sampled go cases (default 0).")
+    group.addoption(OPT_RECURSION_DEPTH, type=int, default=None,
+                    help="How often generation follows a recursive $ref on one path (default 3).")  # fmt: skip
     group.addoption(OPT_PROTOCOL_VERSION, default=None, help="Pin one protocol version (e.g. 2025-11-25).")
     import argparse
 
@@ -163,6 +166,7 @@ class FeelerPlugin:
         from feeler.check.registry import CheckSettings
         from feeler.check.runner import RunOptions
         from feeler.depth import samples_for
+        from feeler.generate import DEFAULT_RECURSION_DEPTH
         from feeler.world.known import known_pool
 
         cfg, config = self.cfg, self.config
@@ -186,6 +190,8 @@ class FeelerPlugin:
             learn=bool(cfg.get("learn", True)),
             chain_runs=int(cfg.get("chain_runs", 20)),
             chain_steps=int(cfg.get("chain_steps", 8)),
+            recursion_depth=next(v for v in (config.getoption(OPT_RECURSION_DEPTH), cfg.get("recursion_depth"),
+                                              DEFAULT_RECURSION_DEPTH) if v is not None),  # fmt: skip
         )
 
     def replay_dir(self) -> str:

@@ -64,3 +64,56 @@ def reference_validator(schema: Any) -> Any:
     base = jsonschema.validators.validator_for(schema, default=jsonschema.Draft202012Validator)
     cls = _CLASSES.get(base, base)
     return cls(schema, format_checker=base.FORMAT_CHECKER, registry=referencing.Registry())
+
+
+def error_tree(errors: Any) -> Any:
+    """Every error and, depth first, the errors in its ``context`` (jsonschema puts the branch errors of
+    ``anyOf``/``oneOf`` there, and only when no branch accepts the value: ``ValidationError.context``)."""
+    for error in errors:
+        yield error
+        yield from error_tree(error.context or [])
+
+
+def _pointer_parts(pointer: str) -> list[str]:
+    return [p.replace("~1", "/").replace("~0", "~") for p in pointer.split("/")[1:]]
+
+
+def _json_path(parts: Any) -> str:
+    out = "$"
+    for part in parts:
+        out += f"[{part}]" if isinstance(part, int) else f".{part}"
+    return out
+
+
+def nogo_is_proven(oracle: Any, schema: Any, case: Any) -> bool:
+    """Does *oracle* (jsonschema) reject *case* with its keyword at its instance path?
+
+    The keyword's error is looked for in the whole error tree. Inside ``unevaluatedProperties`` /
+    ``unevaluatedItems`` jsonschema reports only that keyword on the container (its error message names
+    the unevaluated keys, not why), so there the keyword is proven on the subschema itself: the container
+    error exists and the subschema, applied to the value at that key or index, reports the keyword.
+    """
+    errors = list(oracle.iter_errors(case.arguments))
+    if any(e.validator == case.keyword and _json_path(e.absolute_path) == case.path for e in error_tree(errors)):
+        return True
+    parts = _pointer_parts(case.schema_path)
+    for keyword in ("unevaluatedProperties", "unevaluatedItems"):
+        if keyword not in parts[:-1]:
+            continue
+        cut = len(parts) - 1 - parts[::-1].index(keyword)
+        sub: Any = schema
+        for part in parts[: cut + 1]:
+            sub = sub[int(part)] if isinstance(sub, list) else sub[part]
+        for outer in error_tree(errors):
+            if outer.validator != keyword:
+                continue
+            container = list(outer.absolute_path)
+            value: Any = case.arguments
+            for part in container:
+                value = value[part]
+            for key in (value if isinstance(value, dict) else range(len(value)) if isinstance(value, list) else []):
+                inner = list(oracle.evolve(schema=sub).iter_errors(value[key]))
+                if any(e.validator == case.keyword and _json_path([*container, key, *e.absolute_path]) == case.path
+                       for e in error_tree(inner)):  # fmt: skip
+                    return True
+    return False

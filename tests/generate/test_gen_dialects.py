@@ -15,6 +15,7 @@ import pytest
 
 from feeler.errors import SchemaProblem
 from feeler.generate import ToolSchema, go_cases, nogo_cases
+from gen_reference import reference_validator
 
 
 def _with(dialect: str | None, body: dict) -> dict:
@@ -106,12 +107,55 @@ def test_unresolvable_local_ref() -> None:
     assert info.value.reason == "unresolvable-ref"
 
 
-def test_recursive_ref() -> None:
-    tree = {"type": "object", "properties": {"child": {"$ref": "#/$defs/node"}},
-            "$defs": {"node": {"type": "object", "properties": {"next": {"$ref": "#/$defs/node"}}}}}  # fmt: skip
-    with pytest.raises(SchemaProblem) as info:
-        ToolSchema(tree)
-    assert info.value.reason == "recursive-ref"
+def _depth(value: object, key: str) -> int:
+    """How many times *key* nests inside *value*."""
+    depth = 0
+    while isinstance(value, dict) and isinstance(value.get(key), dict):
+        value, depth = value[key], depth + 1
+    return depth
+
+
+@pytest.mark.parametrize("depth", [0, 1, 3])
+def test_recursive_ref_is_generated_to_the_depth_setting(depth: int) -> None:
+    # 2020-12 core 8.2.3.1: $ref may point at an ancestor; generation follows it at most `depth` times,
+    # validation (jsonschema) is unbounded.
+    chain = {"type": "object", "properties": {"head": {"$ref": "#/$defs/link"}}, "required": ["head"],
+             "$defs": {"link": {"type": "object", "properties": {"label": {"type": "string", "maxLength": 3},
+                                                                 "next": {"$ref": "#/$defs/link"}},
+                                "required": ["label"]}}}  # fmt: skip
+    ts = ToolSchema(chain, recursion_depth=depth)
+    assert ts.recursive_refs == {"/$defs/link/properties/next/$ref"}
+    oracle = jsonschema.Draft202012Validator(chain)
+    go = go_cases(ts, draws=30, seed=2)
+    assert go and all(oracle.is_valid(c.arguments) for c in go)  # jsonschema as the reference validator
+    deepest = max(_depth(c.arguments["head"], "next") for c in go)
+    assert deepest <= depth
+    if depth:
+        assert deepest == depth, deepest  # the fullest base case goes down to the depth
+    nogo = nogo_cases(ts)
+    # A keyword inside the recursion is broken below the root level too (the walk follows the instance).
+    assert any(c.schema_path == "/$defs/link/properties/label/maxLength" and c.path.count("next") == min(depth, 1) for c in nogo) or not depth
+
+
+def test_id_and_anchor_references_inside_the_document_resolve() -> None:
+    # 2020-12 core 8.2.1 ($id), 8.2.2 ($anchor), 9.2 (embedded resources); referencing resolves them.
+    schema = {
+        "$id": "https://example.org/schemas/lending.json",
+        "type": "object",
+        "properties": {"member": {"$ref": "member.json"}, "days": {"$ref": "#loan-days"}},
+        "required": ["member", "days"],
+        "$defs": {
+            "m": {"$id": "member.json", "type": "object", "properties": {"card": {"type": "string", "pattern": "^C[0-9]{4}$"}},
+                  "required": ["card"]},
+            "d": {"$anchor": "loan-days", "type": "integer", "minimum": 1, "maximum": 28},
+        },
+    }  # fmt: skip
+    oracle = reference_validator(schema)  # jsonschema, patterns read by an ECMA-262 engine (regress)
+    go, nogo = go_cases(schema), nogo_cases(schema)
+    assert go and all(oracle.is_valid(c.arguments) for c in go)
+    assert nogo and not any(oracle.is_valid(c.arguments) for c in nogo)
+    locations = {c.schema_path for c in nogo}
+    assert {"/$defs/m/properties/card/pattern", "/$defs/d/minimum", "/$defs/d/maximum"} <= locations, locations
 
 
 @pytest.mark.parametrize("bad", [{"type": "objekt"}, {"minimum": "three"}, {"required": "a"}, [1, 2], "object"])

@@ -69,7 +69,7 @@ def test_corpus_fast_cases_validate(path: Any) -> None:
 
 def test_property_schemas_fast_cases_validate() -> None:
     built = 0
-    schemas = _schemas(80)
+    schemas = _schemas(50)
     for schema in schemas:
         try:
             go_cases(schema)  # unsatisfiable drawn schemas (e.g. uniqueItems over a one-member enum) are skipped

@@ -61,6 +61,8 @@ class _Progress:
 @click.option("--samples", type=click.IntRange(min=1), default=None, help="Sampled go cases per tool in the first round (doubles each round) [20].")
 @renamed_option("--go-examples", "--samples", "samples", type=click.IntRange(min=1))
 @click.option("--max-samples", type=click.IntRange(min=1), default=2000, show_default=True, help="Most sampled go cases per tool in one round.")
+@click.option("--recursion-depth", type=click.IntRange(min=0), default=3, show_default=True,
+              help="How often generation follows a recursive $ref on one path.")
 @click.option("--example-db", default=None, metavar="DIR|redis://HOST:PORT/N|none",
               help="hypothesis example database: failing examples are retried first next time [.feeler/examples].")
 @click.option("--folder", default=None, metavar="DIR", help="Campaign folder: state and call log [.feeler/campaigns/TARGET[-shard-i-of-n]].")
@@ -109,6 +111,7 @@ def campaign(**kwargs: Any) -> int:
         exclude=list(kwargs["exclude"]), allow_destructive=kwargs["allow_destructive"], replay_dir=kwargs["replay_dir"],
         settings=CheckSettings(**audit_settings(config)), redactor=redactor_for(opts.target, config.values),
         workers=kwargs["workers"],
+        recursion_depth=kwargs["recursion_depth"],
     )  # fmt: skip
     camp_options = CampaignOptions(
         budget=budget, folder=folder, shard=shard, samples=kwargs["samples"], max_samples=kwargs["max_samples"],

@@ -372,8 +372,9 @@ _TOOL_NAME = re.compile(r"^[A-Za-z0-9_.-]{1,128}$")
 
 @register("schema_usable", applies_to=("catalog",), reference="MCP 2025-11-25 basic/index (JSON Schema usage); JSON Schema 2020-12; jsonschema")
 def schema_usable(ctx: CallContext) -> Iterator[Problem]:
-    """The inputSchema is a valid JSON Schema of a known dialect, with no remote ``$ref``, rooted at an object
-    (the outputSchema is ``output_schema_valid``'s)."""
+    """The inputSchema is a valid JSON Schema of a known dialect, with no remote ``$ref``, rooted at an object,
+    that accepts some value (a contradiction is named with its keywords and locations). The outputSchema is
+    ``output_schema_valid``'s."""
     from feeler.errors import SchemaProblem
     from feeler.generate import compile_schema
 
@@ -384,9 +385,14 @@ def schema_usable(ctx: CallContext) -> Iterator[Problem]:
     if not isinstance(schema, dict) or schema.get("type") != "object":
         yield Problem('the inputSchema must be an object schema with "type": "object" at its root', error_class="root-type")
     try:
-        compile_schema(schema)
+        compile_schema(schema, name=tool.name)
     except SchemaProblem as exc:
         yield Problem(f"the inputSchema cannot be used: {exc}", error_class=exc.reason)
+    else:
+        # A problem found while making cases (no value found although no contradiction was seen up front).
+        found = getattr(ctx.stats, "schema_problem", None)
+        if found:
+            yield Problem(f"the inputSchema cannot be used: {found}", error_class="unsatisfiable")
     # The outputSchema is output_schema_valid's (feeler.check.audit): one finding, with the place that is wrong.
 
 

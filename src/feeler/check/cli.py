@@ -68,6 +68,8 @@ def _list_checks(ctx: click.Context, _param: click.Parameter, value: bool) -> No
 @click.option("--no-learn", is_flag=True, help="Do not learn values from answers (and skip the discovery pass).")
 @click.option("--chain-runs", type=click.IntRange(min=0), default=None, help="Call chains to run (0: none) [20].")
 @click.option("--chain-steps", type=click.IntRange(min=1), default=None, help="The most calls in one chain [8].")
+@click.option("--recursion-depth", type=click.IntRange(min=0), default=None,
+              help="How often generation follows a recursive $ref on one path [3].")
 @click.option("--include", multiple=True, metavar="PATTERN", help="Only tools matching this glob (repeatable).")
 @click.option("--exclude", multiple=True, metavar="PATTERN", help="Skip tools matching this glob (repeatable).")
 @click.option("--allow-destructive", is_flag=True, help="Also call tools annotated destructiveHint: true.")
@@ -100,6 +102,7 @@ def check(**kwargs: Any) -> int:
     from feeler.check.report import report_json, report_text
     from feeler.check.runner import RunOptions, Runner
     from feeler.depth import samples_for
+    from feeler.generate import DEFAULT_RECURSION_DEPTH
     from feeler.redact import redactor_for
 
     apply_renamed(kwargs)
@@ -139,6 +142,8 @@ def check(**kwargs: Any) -> int:
         chain_runs=kwargs["chain_runs"] if kwargs["chain_runs"] is not None else config.get("chain_runs", 20),
         chain_steps=kwargs["chain_steps"] if kwargs["chain_steps"] is not None else config.get("chain_steps", 8),
         workers=kwargs["workers"],
+        recursion_depth=kwargs["recursion_depth"] if kwargs["recursion_depth"] is not None else config.get(
+            "recursion_depth", DEFAULT_RECURSION_DEPTH),
     )
     progress = (lambda line: click.echo(line, err=True)) if sys.stderr.isatty() or fmt == "text" else None
     if every:

@@ -25,6 +25,7 @@ from feeler.check.replay import ANCHORED_CHECKS
 from feeler.check.registry import CallContext, Check, CheckSettings, Problem, select_checks
 from feeler.connect import capture, open_session
 from feeler.errors import RemoteProtocolError, RequestTimeout, SchemaProblem, ServerExited, TargetError
+from feeler.generate._schema import DEFAULT_RECURSION_DEPTH
 from feeler.redact import Redactor, redactor_for, secret_values
 from feeler.session import Exchange, Session
 from feeler.target import Target
@@ -89,6 +90,8 @@ class RunOptions:
     only: list[str] | None = None
     #: sessions calling sampled go cases side by side (server processes for stdio; feeler.check.parallel)
     workers: int = 1
+    #: how often generation follows a recursive $ref on one path (``--recursion-depth``, ``recursion_depth``)
+    recursion_depth: int = DEFAULT_RECURSION_DEPTH
 
 
 @dataclass
@@ -415,12 +418,19 @@ class Runner:
         if reason:
             stats.skipped = reason
         elif stats.schema_problem is None:
-            if "go" in kinds:
-                self.world.discover(self)
-                self._go(tool, stats)
-                self._guidance(tool, stats)
-            if "no-go" in kinds:
-                self._nogo(tool, stats)
+            try:
+                if "go" in kinds:
+                    self.world.discover(self)
+                    self._go(tool, stats)
+                    self._guidance(tool, stats)
+                if "no-go" in kinds:
+                    self._nogo(tool, stats)
+            except SchemaProblem as exc:
+                # No value was found although no contradiction was seen up front: reported like one
+                # (schema_usable, a catalog finding), and the run goes on with the other tools.
+                stats.schema_problem = str(exc)
+                self._evaluate(CallContext("catalog", tool, self.revision, self.era, self.settings, stats=stats),
+                               only=("schema_usable",))  # fmt: skip
         if "probe" in kinds and self.options.probes and not reason:
             self._probes(tool, stats)
         if "go" in kinds and not reason:
@@ -457,11 +467,16 @@ class Runner:
             stats.coverage = coverage(tool.input_schema, stats.cases)
 
     # -- case kinds ----------------------------------------------------------------------------------
-    def _catalog_checks(self, tool: Tool, stats: ToolStats) -> None:
+    def _compile(self, tool: Tool) -> Any:
+        """The tool's schema compiled with this run's settings; every later use of the same schema
+        object (generation, the world layer) gets this compiled form (feeler.generate.compile_schema)."""
         from feeler.generate import compile_schema
 
+        return compile_schema(tool.input_schema, name=tool.name, recursion_depth=self.options.recursion_depth)
+
+    def _catalog_checks(self, tool: Tool, stats: ToolStats) -> None:
         try:
-            compile_schema(tool.input_schema)
+            self._compile(tool)
         except SchemaProblem as exc:
             stats.schema_problem = str(exc)  # the schema_usable check reports it; no cases can be made
         self._evaluate(CallContext("catalog", tool, self.revision, self.era, self.settings))
@@ -469,6 +484,7 @@ class Runner:
     def _prepare(self, tool: Tool) -> None:
         if self.skip_reason(tool) is None:
             try:
+                self._compile(tool)
                 self._bases(tool, self.stats(tool))
             except SchemaProblem:
                 pass  # the catalog checks report it when the tool's turn comes

@@ -8,7 +8,8 @@ Public API only; the code lives in the private modules and in the keyword tables
 
 from __future__ import annotations
 
-from feeler.generate._schema import DIALECTS, ToolSchema, compile_schema
+from feeler.generate._model import compile_schema
+from feeler.generate._schema import DEFAULT_RECURSION_DEPTH, DIALECTS, ToolSchema
 from feeler.generate.boundaries import BOUNDARIES
 from feeler.generate.cases import Case, Tally, arguments, drawn_cases, fast_go_cases, go_cases, nogo_cases
 from feeler.generate.coverage import KeywordCoverage, coverage
@@ -17,6 +18,7 @@ from feeler.generate.probes import Probe, protocol_probes
 
 __all__ = [
     "BOUNDARIES",
+    "DEFAULT_RECURSION_DEPTH",
     "DIALECTS",
     "MUTATORS",
     "Case",

@@ -1,106 +1,35 @@
-"""Build one valid value for a schema node by construction: the smallest, or the fullest.
+"""Build one valid value for a shape by construction: the smallest, or the fullest.
 
 Deterministic and fast (no search): numbers sit on their lower bound, strings are as short as allowed,
-objects carry the required properties (``full=True``: every property), arrays the fewest items
-(``full=True``: at least one). The oracle checks every result; where this builder cannot satisfy a
-node (``not``, tricky ``allOf`` mixes...), :func:`example` falls back to a shrunk hypothesis example.
+objects carry the required properties (``full=True``: every declared property), arrays the fewest
+items (``full=True``: at least one). It reads the compiled model (:mod:`._model`). Every result is
+checked with the shape's oracle; where construction does not satisfy the shape (``not``, an ``else``
+value that meets ``if``...), :func:`example` falls back to the seeded sampler (:mod:`._fast`) and then
+to a hypothesis search (:mod:`._strategies`).
 """
 
 from __future__ import annotations
 
+import copy
 import math
-from collections.abc import Iterator
+import random
+from collections.abc import Callable, Iterator
 from decimal import Decimal
 from typing import Any
 
 from feeler._json import canonical_dumps
+from feeler.generate._fast import sampler_for
 from feeler.generate._formats import FORMAT_SAMPLES
+from feeler.generate._model import Shape
 from feeler.generate._regex import regex_example
-from feeler.generate._schema import ToolSchema
+from feeler.generate._strategies import Unbuildable, searched_example, searched_examples
 
-__all__ = ["Unbuildable", "build", "effective", "example", "multiple_at_least", "node_types", "variants"]
+__all__ = ["Unbuildable", "build", "example", "find_value", "multiple_at_least", "variants"]
 
-TYPES = ("null", "boolean", "integer", "number", "string", "array", "object")
-_ANNOTATIONS = {"title", "description", "default", "examples", "$comment", "deprecated", "readOnly", "writeOnly",
-                "$schema", "$id", "$anchor", "$defs", "definitions", "contentMediaType", "contentEncoding"}
-
-
-class Unbuildable(Exception):
-    """This builder cannot produce a value for the node; the caller falls back to search."""
-
-
-def effective(ts: ToolSchema, node: Any) -> Any:
-    """*node* with a ``$ref`` followed and ``allOf`` folded in where that is a plain merge."""
-    if not isinstance(node, dict):
-        return node
-    if isinstance(node.get("$ref"), str):
-        target = effective(ts, ts.resolve(node["$ref"])[0])
-        rest = {k: v for k, v in node.items() if k != "$ref" and k not in _ANNOTATIONS}
-        node = target if (ts.ref_overrides or not rest) else _merge(target, effective(ts, rest))
-    if isinstance(node, dict) and isinstance(node.get("allOf"), list):
-        merged: Any = {k: v for k, v in node.items() if k != "allOf"}
-        for sub in node["allOf"]:
-            merged = _merge(merged, effective(ts, sub))
-        node = merged
-    return node
-
-
-def _merge(a: Any, b: Any) -> Any:
-    """Intersect two schemas where it is a plain merge; any conflict is left to the oracle (kept in allOf)."""
-    if a is True or a == {}:
-        return b
-    if b is True or b == {}:
-        return a
-    if a is False or b is False:
-        return False
-    out = dict(a)
-    rest: dict[str, Any] = {}
-    for key, value in b.items():
-        if key not in out or out[key] == value:
-            out[key] = value
-        elif key == "type":
-            left = set(out[key] if isinstance(out[key], list) else [out[key]])
-            right = set(value if isinstance(value, list) else [value])
-            both = left & right
-            if "number" in left and "integer" in right or "number" in right and "integer" in left:
-                both.add("integer")
-            out[key] = sorted(both)
-        elif key == "required":
-            out[key] = list(dict.fromkeys([*out[key], *value]))
-        elif key == "properties":
-            props = dict(out[key])
-            for name, sub in value.items():
-                props[name] = _merge(props[name], sub) if name in props else sub
-            out[key] = props
-        elif key in ("minimum", "exclusiveMinimum", "minLength", "minItems", "minProperties"):
-            out[key] = max(out[key], value)
-        elif key in ("maximum", "exclusiveMaximum", "maxLength", "maxItems", "maxProperties"):
-            out[key] = min(out[key], value)
-        elif key == "enum":
-            out[key] = [v for v in out[key] if any(canonical_dumps(v) == canonical_dumps(w) for w in value)]
-        else:
-            rest[key] = value
-    if rest:
-        out["allOf"] = [*out.get("allOf", []), rest]
-    return out
-
-
-def node_types(node: dict) -> list[str]:
-    """The JSON types a node allows, inferred from its keywords when ``type`` is absent."""
-    declared = node.get("type")
-    if declared is not None:
-        types = [declared] if isinstance(declared, str) else list(declared)
-        return [t for t in TYPES if t in types]
-    if any(k in node for k in ("properties", "required", "additionalProperties", "patternProperties",
-                                "minProperties", "maxProperties", "propertyNames", "dependentRequired")):
-        return ["object"]
-    if any(k in node for k in ("items", "prefixItems", "minItems", "maxItems", "uniqueItems", "contains")):
-        return ["array"]
-    if any(k in node for k in ("minLength", "maxLength", "pattern", "format")):
-        return ["string"]
-    if any(k in node for k in ("minimum", "maximum", "exclusiveMinimum", "exclusiveMaximum", "multipleOf")):
-        return ["number"]
-    return list(TYPES)
+#: Most nested build calls for one value (a guard; recursion is bounded by the model's cut).
+_MAX_NESTING = 200
+#: Draws of the seeded sampler in :func:`find_value` before the hypothesis search.
+_DRAWS = 60
 
 
 def multiple_at_least(low: float, step: float, exclusive: bool = False) -> float:
@@ -113,41 +42,61 @@ def multiple_at_least(low: float, step: float, exclusive: bool = False) -> float
     return int(value) if value == value.to_integral_value() else float(value)
 
 
-def _lower(node: dict, integer: bool) -> float | None:
-    lows = []
-    if "minimum" in node:
-        lows.append((node["minimum"], False))
-    if "exclusiveMinimum" in node and not isinstance(node["exclusiveMinimum"], bool):
-        lows.append((node["exclusiveMinimum"], True))
-    if not lows:
+def build(shape: Shape, full: bool = False, _nesting: int = 0) -> Any:
+    """One value for *shape* by construction; the caller checks it with the oracle.
+
+    :raises Unbuildable: the shape needs search (``not``, a value that must miss ``if``...).
+    """
+    if shape.never or _nesting > _MAX_NESTING:
+        raise Unbuildable
+    if not shape.parts:
         return None
-    value, exclusive = max(lows, key=lambda p: (p[0], p[1]))
-    if integer:
-        return math.floor(value) + 1 if exclusive else math.ceil(value)
-    return math.nextafter(value, math.inf) if exclusive else value
+    nest = _nesting + 1
+    if shape.members is not None:
+        if not shape.members:
+            raise Unbuildable
+        return copy.deepcopy(shape.members[0])
+    for keyword in ("anyOf", "oneOf"):
+        groups = shape.groups(keyword)
+        if groups:
+            location, branches = groups[0]
+            for branch in branches:
+                try:
+                    value = build(shape.choose(location, branch), full, nest)
+                except Unbuildable:
+                    continue
+                if shape.accepts(value):
+                    return value
+            raise Unbuildable
+    if shape.conditionals:
+        # Build without the condition, then again with the outcome the condition picks for that value.
+        location, if_, then, else_ = shape.conditionals[0]
+        value = build(shape.choose(location), full, nest)
+        met = shape.model.ts.valid_under(if_.raw, value)
+        return build(shape.choose(location, if_, then) if met else shape.choose(location, else_), full, nest)
+    # Prefer the type that says most about the shape, e.g. object over null for an "object or null".
+    for kind in ("object", "array", "string", "integer", "number", "boolean", "null"):
+        if kind in shape.types:
+            try:
+                return _BUILDERS[kind](shape, full, nest)
+            except Unbuildable:
+                continue
+    raise Unbuildable
 
 
-def _upper(node: dict, integer: bool) -> float | None:
-    highs = []
-    if "maximum" in node:
-        highs.append((node["maximum"], False))
-    if "exclusiveMaximum" in node and not isinstance(node["exclusiveMaximum"], bool):
-        highs.append((node["exclusiveMaximum"], True))
-    if not highs:
-        return None
-    value, exclusive = min(highs, key=lambda p: (p[0], not p[1]))
-    if integer:
-        return math.ceil(value) - 1 if exclusive else math.floor(value)
-    return math.nextafter(value, -math.inf) if exclusive else value
-
-
-def _number(node: dict, integer: bool) -> Any:
-    low, high = _lower(node, integer), _upper(node, integer)
+def _number(shape: Shape, integer: bool) -> Any:
+    low, _ = shape.bound("low", integer)
+    high, _ = shape.bound("high", integer)
     start = low if low is not None else (min(0, high) if high is not None else 0)
-    if "multipleOf" in node:
-        step = node["multipleOf"]
-        start = multiple_at_least(start, step) if low is not None else (
-            -multiple_at_least(-start, step) if high is not None and start < 0 else 0)
+    if shape.steps:
+        steps = shape.steps
+        step = math.lcm(*(int(s) for s in steps)) if all(float(s).is_integer() for s in steps) else steps[0]
+        if low is not None:
+            start = multiple_at_least(start, step)
+        elif high is not None and start < 0:
+            start = -multiple_at_least(-start, step)
+        else:
+            start = 0
         if integer and not float(start).is_integer():
             raise Unbuildable
     if high is not None and start > high:
@@ -155,176 +104,163 @@ def _number(node: dict, integer: bool) -> Any:
     return int(start) if integer else start
 
 
-def _string(node: dict) -> str:
-    low = node.get("minLength", 0)
-    if "format" in node and node["format"] in FORMAT_SAMPLES:
-        text = FORMAT_SAMPLES[node["format"]]
-    elif "pattern" in node:
+def _string(shape: Shape, full: bool, nest: int) -> str:
+    low, high = shape.min_length, shape.max_length
+    if shape.formats and shape.formats[0] in FORMAT_SAMPLES:
+        text: str | None = FORMAT_SAMPLES[shape.formats[0]]
+    elif shape.patterns:
+        text = None
         for grow in (0, 1, 3, 8):
-            text = regex_example(node["pattern"], grow)
+            text = regex_example(shape.patterns[0], grow)
             if text is None or len(text) >= low:
                 break
         if text is None:
             raise Unbuildable
     else:
         text = "a" * low
-    if len(text) < low or ("maxLength" in node and len(text) > node["maxLength"]):
+    if len(text) < low or (high is not None and len(text) > high):
         raise Unbuildable
     return text
 
 
-def build(ts: ToolSchema, node: Any, full: bool = False) -> Any:
-    """One value for *node* by construction; the caller checks it with the oracle.
-
-    :raises Unbuildable: the node needs search (``not``, ``if``, conflicting ``allOf``...).
-    """
-    node = effective(ts, node)
-    if node is True:
-        return None
-    if node is False:
-        raise Unbuildable
-    if "if" in node:
-        # Build without the condition, then again with the branch the condition picks for that value.
-        rest = {k: v for k, v in node.items() if k not in ("if", "then", "else")}
-        value = build(ts, rest, full)
-        branch = node.get("then" if ts.valid_under(node["if"], value) else "else")
-        return build(ts, _merge(rest, effective(ts, branch)), full) if branch is not None else value
-    if "const" in node:
-        return node["const"]
-    if "enum" in node:
-        if not node["enum"]:
-            raise Unbuildable
-        for member in node["enum"]:
-            if ts.valid_under(node, member):
-                return member
-        raise Unbuildable
-    for key in ("anyOf", "oneOf"):
-        if key in node:
-            rest = {k: v for k, v in node.items() if k != key}
-            for branch in node[key]:
-                try:
-                    value = build(ts, _merge(rest, effective(ts, branch)), full)
-                except Unbuildable:
-                    continue
-                if ts.valid_under(node, value):
-                    return value
-            raise Unbuildable
-    types = node_types(node)
-    # Prefer the type that says most about the node, e.g. object over null for an "object or null".
-    for kind in ("object", "array", "string", "integer", "number", "boolean", "null"):
-        if kind not in types:
-            continue
-        try:
-            return _BUILDERS[kind](ts, node, full)
-        except Unbuildable:
-            continue
-    raise Unbuildable
-
-
-def _array(ts: ToolSchema, node: dict, full: bool) -> list:
-    prefix = node.get("prefixItems") or (node["items"] if isinstance(node.get("items"), list) else [])
-    rest = node.get("items") if not isinstance(node.get("items"), list) else node.get("additionalItems", True)
-    low = node.get("minItems", 0)
-    if "contains" in node:
-        low = max(low, node.get("minContains", 1))
+def _array(shape: Shape, full: bool, nest: int) -> list:
+    prefix, rest = shape.prefix, shape.rest
+    low = shape.min_items
+    contained = shape.contains[0] if shape.contains else None
+    if contained is not None:
+        low = max(low, contained[1])
     count = max(low, (max(1, len(prefix)) if full else 0))
-    if "maxItems" in node:
-        count = min(count, node["maxItems"])
-    out = [build(ts, sub, full) for sub in prefix[:count]]
+    if shape.max_items is not None:
+        count = min(count, shape.max_items)
+    if rest.never:
+        count = min(count, len(prefix))
+    out = [example(s, full, nest) for s in prefix[:count]]
     needed = count - len(out)
     if needed > 0:
-        if rest is False:
-            raise Unbuildable
-        item_schema = rest if rest is not None else True
-        if "contains" in node:
-            item_schema = _merge(effective(ts, item_schema), effective(ts, node["contains"]))
-        if node.get("uniqueItems"):
-            out.extend(variants(ts, item_schema, needed, full))
+        item = rest.merge(contained[0]) if contained is not None else rest
+        if shape.unique:
+            out.extend(variants(item, needed, full))
         else:
-            one = example(ts, item_schema, full)
-            out.extend(one for _ in range(needed))
+            one = example(item, full, nest)
+            out.extend(copy.deepcopy(one) for _ in range(needed))
     return out
 
 
-def _object(ts: ToolSchema, node: dict, full: bool) -> dict:
-    props = node.get("properties", {})
-    names = list(dict.fromkeys([*node.get("required", []), *(props if full else [])]))
-    if "maxProperties" in node:
-        must = len(node.get("required", []))
-        names = names[: max(must, node["maxProperties"])]
+def _object(shape: Shape, full: bool, nest: int) -> dict:
+    names = list(dict.fromkeys([*shape.required, *(shape.declared if full else [])]))
+    if shape.max_props is not None:
+        names = names[: max(len(shape.required), shape.max_props)]
     out: dict[str, Any] = {}
     for name in names:
-        out[name] = example(ts, _property_schema(node, name), full)
-    for trigger, needs in (node.get("dependentRequired") or {}).items():
+        value_shape = shape.for_key(name)
+        if name not in shape.required and value_shape.never:
+            continue
+        out[name] = example(value_shape, full, nest)
+    for trigger, needs in shape.depends.items():
         if trigger in out:
             for name in needs:
                 if name not in out:
-                    out[name] = example(ts, _property_schema(node, name), full)
-    extra = 0
-    while len(out) < node.get("minProperties", 0):
-        candidates = [n for n in props if n not in out]
-        name = candidates[0] if candidates else f"extra{extra}"
-        extra += 1
-        out[name] = example(ts, _property_schema(node, name), full)
-        if extra > 64:
+                    out[name] = example(shape.for_key(name), full, nest)
+    spare = iter([n for n in shape.declared if n not in out] + [f"extra{i}" for i in range(64)])
+    while len(out) < shape.min_props:
+        name = next(spare, None)
+        if name is None:
             raise Unbuildable
+        if not shape.for_key(name).never:
+            out[name] = example(shape.for_key(name), full, nest)
     return out
 
 
-def _property_schema(node: dict, name: str) -> Any:
-    if name in node.get("properties", {}):
-        return node["properties"][name]
-    ap = node.get("additionalProperties", True)
-    return {} if ap is True else ap
-
-
-_BUILDERS = {
-    "null": lambda ts, node, full: None,
-    "boolean": lambda ts, node, full: False,
-    "integer": lambda ts, node, full: _number(node, True),
-    "number": lambda ts, node, full: _number(node, False),
-    "string": lambda ts, node, full: _string(node),
+_BUILDERS: dict[str, Callable[[Shape, bool, int], Any]] = {
+    "null": lambda shape, full, nest: None,
+    "boolean": lambda shape, full, nest: False,
+    "integer": lambda shape, full, nest: _number(shape, True),
+    "number": lambda shape, full, nest: _number(shape, False),
+    "string": _string,
     "array": _array,
     "object": _object,
 }
-assert set(_BUILDERS) == set(TYPES)
 
 
-def example(ts: ToolSchema, node: Any, full: bool = False) -> Any:
-    """A value valid against *node* (checked by the oracle), by construction or else by shrunk search.
+def example(shape: Shape, full: bool = False, _nesting: int = 0) -> Any:
+    """A value valid against *shape* (checked by its oracle): by construction, else by search.
 
     :raises Unbuildable: neither construction nor a bounded search found a valid value.
     """
-    try:
-        value = build(ts, node, full)
-        if ts.valid_under(node, value):
+    # Kept on the shape (deterministic): a shape met again, above all one that has no value, costs nothing.
+    key = "_example_full" if full else "_example"
+    if key not in shape.__dict__:
+        found: tuple[Any] | None
+        try:
+            value = build(shape, full, _nesting)
+            if not shape.accepts(value):
+                raise Unbuildable
+            found = (value,)
+        except Unbuildable:
+            try:
+                found = (find_value(shape),)
+            except Unbuildable:
+                found = None
+        shape.__dict__[key] = found
+    found = shape.__dict__[key]
+    if found is None:
+        raise Unbuildable
+    return copy.deepcopy(found[0])
+
+
+def find_value(shape: Shape, want: Callable[[Any], bool] | None = None, seed: int = 0, search: bool = True) -> Any:
+    """A value *shape* accepts (and *want* too, when given): construction, then the seeded sampler, then
+    (with *search*) a bounded hypothesis search; deterministic.
+
+    :raises Unbuildable: nothing was found within the budget.
+    """
+    ok = (lambda v: shape.accepts(v) and want(v)) if want is not None else shape.accepts
+    if shape.never:
+        raise Unbuildable
+    for full in (False, True):
+        try:
+            value = build(shape, full)
+        except Unbuildable:
+            continue
+        if ok(value):
             return value
-    except Unbuildable:
-        pass
-    from feeler.generate._strategies import searched_example  # late: strategies import this module
+    # Without a search, the sampler must not reach for its own hypothesis pool either.
+    rng, sample = random.Random(seed), sampler_for(shape, pool=search)
+    for _ in range(_DRAWS):
+        try:
+            value = sample(rng)
+        except Exception:  # noqa: BLE001 - a sampler miss: draw again
+            continue
+        if ok(value):
+            return value
+    if not search:
+        raise Unbuildable
+    if want is None:
+        return searched_example(shape)
+    for value in searched_examples(shape, _DRAWS):
+        if ok(value):
+            return value
+    raise Unbuildable
 
-    return searched_example(ts, node)
 
-
-def variants(ts: ToolSchema, node: Any, count: int, full: bool = False) -> list[Any]:
-    """*count* distinct valid values for *node* (for uniqueItems), or :class:`Unbuildable`."""
+def variants(shape: Shape, count: int, full: bool = False) -> list[Any]:
+    """*count* distinct valid values for *shape* (for ``uniqueItems``), or :class:`Unbuildable`."""
     seen: dict[str, Any] = {}
-    for value in _candidates(ts, node, full):
+    for value in _candidates(shape, full):
         key = canonical_dumps(value)
-        if key not in seen and ts.valid_under(node, value):
+        if key not in seen and shape.accepts(value):
             seen[key] = value
             if len(seen) == count:
                 return list(seen.values())
     raise Unbuildable
 
 
-def _candidates(ts: ToolSchema, node: Any, full: bool) -> Iterator[Any]:
-    eff = effective(ts, node)
-    if isinstance(eff, dict) and "enum" in eff:
-        yield from eff["enum"]
+def _candidates(shape: Shape, full: bool) -> Iterator[Any]:
+    if shape.members is not None:
+        yield from shape.members
         return
     try:
-        base = build(ts, node, full)
+        base = build(shape, full)
     except Unbuildable:
         base = None
     if base is not None:
@@ -332,7 +268,7 @@ def _candidates(ts: ToolSchema, node: Any, full: bool) -> Iterator[Any]:
     if isinstance(base, bool):
         yield not base
     elif isinstance(base, (int, float)):
-        step = eff.get("multipleOf", 1) if isinstance(eff, dict) else 1
+        step = shape.steps[0] if shape.steps else 1
         for i in range(1, 200):
             yield base + i * step
             yield base - i * step
@@ -341,15 +277,15 @@ def _candidates(ts: ToolSchema, node: Any, full: bool) -> Iterator[Any]:
             yield base + str(i)
             yield base + "abcdefghijklmnopqrstuvwxyz"[i % 26] * (1 + i // 26)
     elif isinstance(base, dict):
-        for i in range(200):
-            for key in list(base):
-                tweaked = dict(base)
-                for alt in _candidates(ts, (eff.get("properties") or {}).get(key, {}), full):
-                    if alt != base[key]:
-                        tweaked[key] = alt
-                        break
-                yield tweaked
-            break
-    from feeler.generate._strategies import searched_examples
-
-    yield from searched_examples(ts, node)
+        for key in list(base):
+            for alt in _candidates(shape.for_key(key), full):
+                if alt != base[key]:
+                    yield {**base, key: alt}
+                    break
+    rng, sample = random.Random(1), sampler_for(shape)
+    for _ in range(_DRAWS):
+        try:
+            yield sample(rng)
+        except Exception:  # noqa: BLE001 - a sampler miss: draw again
+            continue
+    yield from searched_examples(shape)

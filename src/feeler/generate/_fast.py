@@ -1,14 +1,14 @@
-"""Seeded go cases built by construction with :class:`random.Random`, outside hypothesis' engine.
+"""Seeded values built by construction with :class:`random.Random`, outside hypothesis' engine.
 
 hypothesis spends most of a draw on its own bookkeeping (choice sequences, health checks, the
-``@given`` loop), which caps drawn go cases at a few hundred per second. Here the schema is compiled
-once into one small sampler per node (a closure ``rng -> value``); a case is one call of the root
-sampler plus one oracle check (``ToolSchema.is_valid``). Nodes the samplers do not understand
-(``not``, ``if``, ``contains``...) are sampled without the extra keywords and filtered by the
-node's own validator; a node that still cannot be sampled draws from a small pool of hypothesis
-values made once per node (:func:`~feeler.generate._strategies.searched_examples`), and a root that
-keeps failing falls back to :func:`~feeler.generate._strategies.draws` of the full strategy.
-Every returned value passed the oracle; the same seed gives the same cases.
+``@given`` loop), which caps drawn go cases at a few hundred per second. Here each shape of the
+compiled model (:mod:`._model`) becomes one small sampler (a closure ``rng -> value``), made once; a
+case is one call of the root sampler plus one oracle check (``ToolSchema.is_valid``). A shape that is
+not satisfied by construction (:attr:`~._model.Shape.exact` false: ``not``, ``if``, ``contains``...)
+is sampled from its merged keywords and filtered by its own oracle; a shape that still cannot be
+sampled draws from a small pool of hypothesis values made once per shape
+(:func:`~feeler.generate._strategies.searched_examples`).
+Every returned value passed the oracle; the same seed gives the same values.
 """
 
 from __future__ import annotations
@@ -23,33 +23,26 @@ from decimal import Decimal
 from typing import Any
 
 from feeler._json import canonical_dumps
-from feeler.generate._build import Unbuildable, _lower, _merge, _upper, effective, node_types
 from feeler.generate import _ecma
 from feeler.generate._formats import FORMAT_SAMPLES
+from feeler.generate._model import Shape, model_of
 from feeler.generate._regex import _c, _p, regex_example
 from feeler.generate._schema import ToolSchema
+from feeler.generate._strategies import Unbuildable, searched_examples
 
-__all__ = ["fast_values", "sampler_for"]
+__all__ = ["Miss", "ObjectPlan", "fast_values", "sampler_for", "typed_sampler"]
 
 Sampler = Callable[[random.Random], Any]
 
-#: Keywords the samplers build for directly.
-_KNOWN = {
-    "type", "const", "enum", "anyOf", "oneOf", "properties", "required", "additionalProperties",
-    "minimum", "maximum", "exclusiveMinimum", "exclusiveMaximum", "multipleOf",
-    "minLength", "maxLength", "pattern", "format", "items", "prefixItems", "additionalItems",
-    "minItems", "maxItems", "uniqueItems", "dependentRequired", "dependencies", "minProperties",
-    "maxProperties", "propertyNames", "patternProperties",
-    "title", "description", "default", "examples", "$comment", "deprecated", "readOnly", "writeOnly",
-    "$schema", "$id", "$anchor", "$defs", "definitions", "contentMediaType", "contentEncoding",
-}  # fmt: skip
-#: Tries per node before a filtered sampler gives up on this value.
+#: Tries per shape before a filtered sampler gives up on this value.
 _TRIES = 8
+#: Refused draws (and an empty pool) after which a filtered sampler that never succeeded stops trying.
+_GIVE_UP = 64
 #: Unbounded sizes are capped this far above the lower bound: tool arguments are small.
 _SPAN = 4
 #: Unbounded numbers are drawn this far from their one bound (or from 0).
 _REACH = 1000
-#: Pool size for nodes only hypothesis can draw.
+#: Pool size for shapes only hypothesis can draw.
 _POOL = 30
 _ASCII = string.ascii_letters + string.digits
 _PRINTABLE = "".join(chr(c) for c in range(32, 127))
@@ -60,17 +53,28 @@ _LABEL = string.ascii_lowercase + string.digits
 
 
 class _Miss(Exception):
-    """This draw did not satisfy the node; the caller draws again."""
+    """This draw did not satisfy the shape; the caller draws again."""
 
 
-def sampler_for(ts: ToolSchema, node: Any) -> Sampler:
-    """The sampler of values for *node* (compiled once per node and cached on *ts*)."""
-    # Keyed by id(); the entry keeps the node alive so an id is never reused for another node.
-    cache: dict[int, tuple[Any, Sampler]] = ts.__dict__.setdefault("_fast_samplers", {})
-    entry = cache.get(id(node))
-    if entry is None:
-        entry = cache[id(node)] = (node, _compile(ts, node))
-    return entry[1]
+#: What a sampler raises when one draw missed (besides Unbuildable): for callers that draw again.
+Miss = _Miss
+
+
+def sampler_for(shape: Shape, pool: bool = True) -> Sampler:
+    """The sampler of values for *shape* (made once per shape and kept on it).
+
+    :param pool: when the shape's own draws keep failing, fall back to a pool of hypothesis values
+        (costly: a search); without it the sampler just misses (callers with a cheaper plan B).
+    """
+    key = "_sampler" if pool else "_sampler_no_pool"
+    found = shape.__dict__.get(key)
+    if found is None:
+        holder: list[Sampler] = []
+        # A forwarding sampler first, in case the shape is reached again while it is being made.
+        shape.__dict__[key] = lambda rng: holder[0](rng)
+        holder.append(_compile(shape, pool))
+        found = shape.__dict__[key] = holder[0]
+    return found
 
 
 def fast_values(ts: ToolSchema, count: int, rng: random.Random) -> tuple[list[Any], int]:
@@ -79,7 +83,7 @@ def fast_values(ts: ToolSchema, count: int, rng: random.Random) -> tuple[list[An
     Stops early (returning fewer) when the refusals outnumber the accepted values by far: the caller
     then fills the rest from hypothesis.
     """
-    root = sampler_for(ts, ts.schema)
+    root = sampler_for(model_of(ts).root_shape)
     out: list[Any] = []
     seen: set[str] = set()
     refused = 0
@@ -106,49 +110,36 @@ def fast_values(ts: ToolSchema, count: int, rng: random.Random) -> tuple[list[An
 # -- compilation ---------------------------------------------------------------------------------------
 
 
-def _compile(ts: ToolSchema, raw: Any) -> Sampler:
-    try:
-        node = effective(ts, raw)
-    except Exception:  # noqa: BLE001 - anything odd: let the pool decide
-        return _pool(ts, raw)
-    if node is True:
-        return _any_json
-    if node is False or not isinstance(node, dict):
+def _compile(shape: Shape, pool: bool = True) -> Sampler:
+    if shape.never:
         return _never
-    unknown = set(node) - _KNOWN
-    if unknown:
-        # Sample the node without what we do not understand and keep what the node's validator accepts.
-        rest = {k: v for k, v in node.items() if k not in unknown}
-        try:
-            inner = _compile_known(ts, rest)
-        except Unbuildable:
-            return _pool(ts, raw)
-        return _filtered(ts, raw, inner)
+    if not shape.parts:
+        return _any_json
     try:
-        return _compile_known(ts, node, raw)
+        inner = _compile_known(shape)
     except Unbuildable:
-        return _pool(ts, raw)
+        return _pool(shape) if pool else _never
+    return inner if shape.exact else _filtered(shape, inner, pool)
 
 
-def _compile_known(ts: ToolSchema, node: dict, raw: Any = None) -> Sampler:
-    check = raw if raw is not None else node
-    if "const" in node:
-        value = node["const"]
-        if not ts.valid_under(check, value):
-            raise Unbuildable
-        return lambda rng: copy.deepcopy(value)
-    if "enum" in node:
-        members = [m for m in node["enum"] if ts.valid_under(check, m)]
+def _compile_known(shape: Shape) -> Sampler:
+    if shape.members is not None:
+        members = shape.members
         if not members:
             raise Unbuildable
         return lambda rng: copy.deepcopy(rng.choice(members))
-    for key in ("anyOf", "oneOf"):
-        if key in node:
-            return _choice(ts, node, key, check)
+    for keyword in ("anyOf", "oneOf"):
+        groups = shape.groups(keyword)
+        if groups:
+            location, branches = groups[0]
+            return _choice([sampler_for(shape.choose(location, b)) for b in branches])
+    if shape.conditionals:
+        location, if_, then, else_ = shape.conditionals[0]
+        return _choice([sampler_for(shape.choose(location, if_, then)), sampler_for(shape.choose(location, else_))])
     parts = []
-    for kind in node_types(node):
+    for kind in shape.types:
         try:
-            parts.append(_TYPES[kind](ts, node))
+            parts.append(_TYPES[kind](shape))
         except Unbuildable:
             continue
     if not parts:
@@ -158,54 +149,62 @@ def _compile_known(ts: ToolSchema, node: dict, raw: Any = None) -> Sampler:
     return lambda rng: rng.choice(parts)(rng)
 
 
-def _choice(ts: ToolSchema, node: dict, key: str, check: Any) -> Sampler:
-    """anyOf/oneOf: pick a branch (merged with the node's other keywords), keep it if the node accepts it."""
-    rest = {k: v for k, v in node.items() if k != key}
-    branches = [sampler_for(ts, _merge(rest, effective(ts, b)) if rest else b) for b in node[key]]
+def _choice(branches: list[Sampler]) -> Sampler:
+    """A branch at random (anyOf/oneOf branches, if outcomes); the caller's filter keeps valid values."""
     if not branches:
         raise Unbuildable
 
     def sample(rng: random.Random) -> Any:
         for _ in range(_TRIES):
             try:
-                value = rng.choice(branches)(rng)
+                return rng.choice(branches)(rng)
             except (_Miss, Unbuildable):
                 continue
-            if ts.valid_under(check, value):
-                return value
         raise _Miss
 
     return sample
 
 
-def _filtered(ts: ToolSchema, raw: Any, inner: Sampler) -> Sampler:
+def _filtered(shape: Shape, inner: Sampler, with_pool: bool = True) -> Sampler:
     pool: list[Sampler] = []
+    hits = [0, 0]  # values accepted, draws refused
 
     def sample(rng: random.Random) -> Any:
+        if not hits[0] and hits[1] >= _GIVE_UP:
+            raise Unbuildable  # nothing was ever accepted here, nor found by the pool: stop paying for it
         for _ in range(_TRIES):
             try:
                 value = inner(rng)
             except (_Miss, Unbuildable):
+                hits[1] += 1
                 continue
-            if ts.valid_under(raw, value):
+            if shape.accepts(value):
+                hits[0] += 1
                 return value
+            hits[1] += 1
+        if not with_pool:
+            raise _Miss
         if not pool:
-            pool.append(_pool(ts, raw))
-        return pool[0](rng)
+            pool.append(_pool(shape))
+        try:
+            value = pool[0](rng)
+        except Unbuildable:
+            hits[1] = max(hits[1], _GIVE_UP)
+            raise
+        hits[0] += 1
+        return value
 
     return sample
 
 
-def _pool(ts: ToolSchema, raw: Any) -> Sampler:
+def _pool(shape: Shape) -> Sampler:
     """Values only hypothesis can find: drawn once (deterministically), then picked from at random."""
-    from feeler.generate._strategies import searched_examples  # late: strategies import the builders
-
     values: list[Any] | None = None
 
     def sample(rng: random.Random) -> Any:
         nonlocal values
         if values is None:
-            values = [v for v in searched_examples(ts, raw, _POOL) if ts.valid_under(raw, v)]
+            values = [v for v in searched_examples(shape, _POOL) if shape.accepts(v)]
         if not values:
             raise Unbuildable
         return copy.deepcopy(rng.choice(values))
@@ -229,12 +228,13 @@ def _any_json(rng: random.Random, depth: int = 0) -> Any:
 # -- scalars -------------------------------------------------------------------------------------------
 
 
-def _integer(ts: ToolSchema, node: dict) -> Sampler:
-    low, high = _lower(node, True), _upper(node, True)
-    step = node.get("multipleOf", 1)
-    if not float(step).is_integer():
+def _integer(shape: Shape) -> Sampler:
+    low, _ = shape.bound("low", True)
+    high, _ = shape.bound("high", True)
+    steps = shape.steps or [1]
+    if not all(float(s).is_integer() for s in steps):
         raise Unbuildable
-    step = int(step)
+    step = math.lcm(*(int(s) for s in steps)) or 1
     low, high = _span(low, high)
     klow, khigh = math.ceil(low / step), math.floor(high / step)
     if klow > khigh:
@@ -252,25 +252,22 @@ def _integer(ts: ToolSchema, node: dict) -> Sampler:
     return sample
 
 
-def _number(ts: ToolSchema, node: dict) -> Sampler:
-    low, high = _lower(node, False), _upper(node, False)
+def _number(shape: Shape) -> Sampler:
+    low, _ = shape.bound("low", False)
+    high, _ = shape.bound("high", False)
     low, high = _span(low, high)
     if low > high:
         raise Unbuildable
-    if "multipleOf" in node:
-        step = Decimal(repr(node["multipleOf"]))
+    if shape.steps:
+        step = Decimal(repr(shape.steps[0]))
         klow = math.ceil(Decimal(repr(low)) / step)
         khigh = math.floor(Decimal(repr(high)) / step)
         if klow > khigh:
             raise Unbuildable
 
         def stepped(rng: random.Random) -> float | int:
-            for _ in range(_TRIES):
-                value = rng.randint(klow, khigh) * step  # decimal: no float drift in k * step
-                out = int(value) if value == value.to_integral_value() else float(value)
-                if ts.valid_under(node, out):
-                    return out
-            raise _Miss
+            value = rng.randint(klow, khigh) * step  # decimal: no float drift in k * step
+            return int(value) if value == value.to_integral_value() else float(value)
 
         return stepped
     ilow, ihigh = math.ceil(low), math.floor(high)
@@ -306,24 +303,25 @@ def _text(rng: random.Random, low: int, high: int) -> str:
     return "".join(rng.choice(_ASCII) for _ in range(size))
 
 
-def _string(ts: ToolSchema, node: dict) -> Sampler:
-    low, high = node.get("minLength", 0), node.get("maxLength")
+def _string(shape: Shape) -> Sampler:
+    return _text_sampler(shape.min_length, shape.max_length, shape.formats, shape.patterns)
+
+
+def _text_sampler(low: int, high: int | None, formats: list[str], patterns: list[str]) -> Sampler:
     if high is not None and high < low:
         raise Unbuildable
     fits = lambda s: len(s) >= low and (high is None or len(s) <= high)  # noqa: E731 - code points, as JSON Schema counts
-    if "format" in node:
-        fmt = node["format"]
+    if formats:
+        fmt = formats[0]
         if fmt in _FORMATS:
             maker: Sampler = _FORMATS[fmt]
         elif fmt in FORMAT_SAMPLES:
             maker = lambda rng: FORMAT_SAMPLES[fmt]  # noqa: E731 - one known-good value
         else:
             raise Unbuildable
-        if "pattern" in node:
-            return _tried(lambda rng: maker(rng), lambda s: ts.valid_under(node, s))
         return _tried(maker, fits)
-    if "pattern" in node:
-        pattern = node["pattern"]
+    if patterns:
+        pattern = patterns[0]
         try:
             tree = list(_p.parse(_ecma.translate(pattern)))
             compiled = _ecma.compiled(pattern)
@@ -488,32 +486,35 @@ def _emit(tokens: list, rng: random.Random) -> str:
 # -- containers ----------------------------------------------------------------------------------------
 
 
-def _array(ts: ToolSchema, node: dict) -> Sampler:
-    prefix_nodes = node.get("prefixItems") or (node["items"] if isinstance(node.get("items"), list) else [])
-    rest = node.get("items") if not isinstance(node.get("items"), list) else node.get("additionalItems", True)
-    if rest is None:
-        rest = True
-    prefix = [sampler_for(ts, s) for s in prefix_nodes]
-    tail = sampler_for(ts, rest) if rest is not False else None
-    low, high = node.get("minItems", 0), node.get("maxItems")
+def _array(shape: Shape) -> Sampler:
+    prefix = [sampler_for(s) for s in shape.prefix]
+    rest = shape.rest
+    contained = shape.contains[0] if shape.contains else None
+    tail = sampler_for(rest) if not rest.never else None
+    matching = sampler_for(rest.merge(contained[0])) if contained is not None and tail is not None else None
+    low, high = shape.min_items, shape.max_items
+    if contained is not None:
+        low = max(low, contained[1])
     if high is None:
         high = max(low, len(prefix)) + _SPAN
     if tail is None:
         high = min(high, len(prefix))
     if low > high:
         raise Unbuildable
-    unique = bool(node.get("uniqueItems"))
+    unique = shape.unique
 
     def sample(rng: random.Random) -> list:
         size = rng.randint(low, high)
         out = [make(rng) for make in prefix[:size]]
         keys = {canonical_dumps(v) for v in out} if unique else set()
         misses = 0
+        wanted = contained[1] if contained is not None else 0
         while len(out) < size:
+            make = matching if matching is not None and wanted > 0 else tail
             try:
-                value = tail(rng)  # type: ignore[misc]
+                value = make(rng)  # type: ignore[misc]
             except (_Miss, Unbuildable):
-                if len(out) >= low:
+                if len(out) >= low and make is tail:
                     break  # a shorter array is still valid (an item schema nothing satisfies allows only [])
                 raise
             if unique:
@@ -527,78 +528,106 @@ def _array(ts: ToolSchema, node: dict) -> Sampler:
                     continue
                 keys.add(key)
             out.append(value)
+            wanted -= make is matching
         return out
 
     return sample
 
 
-def _object(ts: ToolSchema, node: dict) -> Sampler:
-    props: dict[str, Any] = node.get("properties", {})
-    required = [n for n in dict.fromkeys(node.get("required", []))]
-    ap = node.get("additionalProperties", True)
-    depends = {k: v for k, v in {**(node.get("dependencies") or {}), **(node.get("dependentRequired") or {})}.items()
-               if isinstance(v, list)}  # fmt: skip
-    low, high = node.get("minProperties", 0), node.get("maxProperties")
+class ObjectPlan:
+    """How objects of one shape are sampled: the names, a sampler per value, the extra keys."""
 
-    def schema_of(name: str) -> Any:
-        if name in props:
-            return props[name]
-        return {} if ap is True else ap
+    def __init__(self, shape: Shape) -> None:
+        self.shape = shape
+        self.required = shape.required
+        self.depends = shape.depends
+        self.low, self.high = shape.min_props, shape.max_props
+        for name in self.required:
+            if shape.for_key(name).never:
+                raise Unbuildable
+        names = list(dict.fromkeys([*self.required, *shape.declared, *(n for v in self.depends.values() for n in v)]))
+        self.values = {name: sampler_for(shape.for_key(name)) for name in names}
+        self.optional = [n for n in shape.declared if n not in self.required and not shape.for_key(n).never]
+        self.extras: list[Sampler] = []
+        for pattern in shape.pattern_keys:
+            try:
+                self.extras.append(_text_sampler(0, None, [], [pattern]))
+            except Unbuildable:
+                continue
+        self.free: Sampler | None = None
+        if shape.extra is not None:
+            self.free = sampler_for(shape.names) if shape.names is not None else _key
+            if shape.extra.parts or shape.names is not None:
+                self.extras.append(self.free)
 
-    for name in required:
-        if schema_of(name) is False:
-            raise Unbuildable
-    values = {name: sampler_for(ts, schema_of(name)) for name in dict.fromkeys([*required, *props, *(n for v in depends.values() for n in v)])}
-    optional = [n for n in props if n not in required]
-    extras: list[tuple[Sampler, Sampler]] = []
-    for pattern, sub in (node.get("patternProperties") or {}).items():
-        extras.append((sampler_for(ts, {"type": "string", "pattern": pattern}), sampler_for(ts, sub)))
-    names_node = node.get("propertyNames")
-    if isinstance(ap, dict) or (ap is True and names_node is not None):
-        keys = sampler_for(ts, {"allOf": [{"type": "string"}, names_node]}) if names_node is not None else _key
-        extras.append((keys, sampler_for(ts, {} if ap is True else ap)))
+    def _add(self, out: dict, keys: Sampler, rng: random.Random) -> None:
+        key = keys(rng)
+        if isinstance(key, str) and key not in out and not self.shape.for_key(key).never:
+            out[key] = sampler_for(self.shape.for_key(key))(rng)
 
-    def sample(rng: random.Random) -> dict:
-        out = {name: values[name](rng) for name in required}
-        for name in optional:
-            if rng.random() < 0.5:
-                try:
-                    out[name] = values[name](rng)
-                except (_Miss, Unbuildable):
-                    continue  # optional: an unsatisfiable or unlucky property is left out
-        for keys, value in extras:
+    def finish(self, out: dict, rng: random.Random, extras: bool = True) -> dict:
+        """*out* (the required and some optional properties) with extra keys (when *extras*), the
+        properties ``dependentRequired`` asks for, and within ``minProperties``/``maxProperties``."""
+        for keys in self.extras if extras else ():
             if rng.random() < 0.3:
                 for _ in range(rng.randint(1, 2)):
-                    key = keys(rng)
-                    if isinstance(key, str) and key not in out:
-                        out[key] = value(rng)
-        for trigger, needs in depends.items():
+                    self._add(out, keys, rng)
+        spare = [n for n in self.optional if n not in out]
+        while len(out) < self.low and spare:
+            name = spare.pop(rng.randrange(len(spare)))
+            out[name] = self.values[name](rng)
+        for _ in range(4 * self.low if self.free is not None else 0):  # bounded: minProperties past the declared names
+            if len(out) >= self.low:
+                break
+            self._add(out, self.free, rng)  # type: ignore[arg-type]
+        for trigger, needs in self.depends.items():
             if trigger in out:
                 for name in needs:
                     if name not in out:
-                        out[name] = values[name](rng)
-        spare = [n for n in optional if n not in out]
-        while len(out) < low and spare:
-            name = spare.pop(rng.randrange(len(spare)))
-            out[name] = values[name](rng)
-        if high is not None and len(out) > high:
-            keep = set(required) | {n for t, needs in depends.items() if t in out for n in needs}
+                        out[name] = self.values[name](rng)
+        if self.high is not None and len(out) > self.high:
+            keep = set(self.required) | {n for t, needs in self.depends.items() if t in out for n in needs}
             for name in [n for n in out if n not in keep]:
-                if len(out) <= high:
+                if len(out) <= self.high:
                     break
                 del out[name]
+            if len(out) > self.high:
+                raise _Miss  # the required properties and what they depend on do not fit: draw again
         return out
 
+
+def _object(shape: Shape) -> Sampler:
+    plan = ObjectPlan(shape)
+
+    def sample(rng: random.Random) -> dict:
+        out = {name: plan.values[name](rng) for name in plan.required}
+        for name in plan.optional:
+            if rng.random() < 0.5:
+                try:
+                    out[name] = plan.values[name](rng)
+                except (_Miss, Unbuildable):
+                    continue  # optional: an unsatisfiable or unlucky property is left out
+        return plan.finish(out, rng)
+
     return sample
+
+
+def typed_sampler(shape: Shape, kind: str) -> Sampler:
+    """A sampler of values of JSON type *kind* for *shape* (filtered by its oracle where it is not exact).
+
+    :raises Unbuildable: the shape allows no such value by construction.
+    """
+    inner = _TYPES[kind](shape)
+    return inner if shape.exact else _filtered(shape, inner, False)
 
 
 def _key(rng: random.Random) -> str:
     return "".join(rng.choice(_KEY_CHARS) for _ in range(rng.randint(1, 8)))
 
 
-_TYPES: dict[str, Callable[[ToolSchema, dict], Sampler]] = {
-    "null": lambda ts, node: lambda rng: None,
-    "boolean": lambda ts, node: lambda rng: rng.random() < 0.5,
+_TYPES: dict[str, Callable[[Shape], Sampler]] = {
+    "null": lambda shape: lambda rng: None,
+    "boolean": lambda shape: lambda rng: rng.random() < 0.5,
     "integer": _integer,
     "number": _number,
     "string": _string,

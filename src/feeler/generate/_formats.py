@@ -68,7 +68,7 @@ def _time() -> st.SearchStrategy[str]:
 
 
 def format_strategies() -> dict[str, st.SearchStrategy[str]]:
-    """A strategy per format we build by construction; others fall back to hypothesis-jsonschema."""
+    """A strategy per format we build by construction; other formats are drawn as plain strings and filtered by the oracle."""
     host = st.lists(_label, min_size=1, max_size=3).map(lambda ls: ".".join(ls) + ".example.org")
     return {
         "date": _date(),

@@ -1,8 +1,11 @@
-"""Compile a tool's input schema once: pick the dialect, resolve local references, build the oracle.
+"""A tool's input schema read once: the dialect, the references, the oracle.
 
-Every later stage (builders, strategies, mutators, coverage) works on a :class:`ToolSchema`, so the
-dialect check, the reference scan and the validator construction happen exactly once per tool.
-Bad schemas become :class:`feeler.errors.SchemaProblem` here, one tool at a time.
+:class:`ToolSchema` picks the dialect, checks the schema against its metaschema, resolves every
+reference with ``referencing`` (the library ``jsonschema`` itself uses) against the resources the
+document embeds (``$id``, ``$anchor``, ``$defs``, ``definitions``), marks the references that recurse,
+and builds the oracle. Nothing is ever fetched: a reference outside the document is a problem.
+The compiled model every generator reads (:mod:`._model`) is built on top of it. Bad schemas become
+:class:`feeler.errors.SchemaProblem` here, one tool at a time.
 """
 
 from __future__ import annotations
@@ -10,19 +13,19 @@ from __future__ import annotations
 import copy
 from collections.abc import Iterator
 from typing import Any
-from urllib.parse import unquote
+from urllib.parse import urldefrag, urljoin
 
 import referencing
 import referencing.exceptions
+import referencing.jsonschema
 from jsonschema import Draft7Validator, Draft201909Validator, Draft202012Validator, validators
 from jsonschema.exceptions import SchemaError, ValidationError
 from jsonschema.protocols import Validator
 
-from feeler._limits import check_schema_limits
 from feeler.errors import SchemaProblem
 from feeler.generate import _ecma
 
-__all__ = ["DEFAULT_DIALECT", "DIALECTS", "ToolSchema", "compile_schema", "pointer"]
+__all__ = ["DEFAULT_DIALECT", "DEFAULT_RECURSION_DEPTH", "DIALECTS", "ToolSchema", "pointer", "subschemas"]
 
 #: Dialects we generate for, keyed by the ``$schema`` URI without its trailing ``#``.
 #: MCP 2025-11-25 basic/index ("JSON Schema usage"): no ``$schema`` means 2020-12.
@@ -32,6 +35,10 @@ DIALECTS: dict[str, type[Validator]] = {
     "http://json-schema.org/draft-07/schema": Draft7Validator,
 }
 DEFAULT_DIALECT = "https://json-schema.org/draft/2020-12/schema"
+#: How often generation follows a recursive reference on one path (a setting: ``recursion_depth``).
+DEFAULT_RECURSION_DEPTH = 3
+#: Keywords that point at another schema by URI.
+REF_KEYWORDS = ("$ref", "$dynamicRef", "$recursiveRef")
 
 #: Keywords whose value is one subschema.
 SCHEMA_KEYWORDS = (
@@ -144,19 +151,43 @@ def subschemas(node: Any) -> Iterator[tuple[tuple[str | int, ...], Any]]:
                 yield ("dependencies", name), sub
 
 
+_SPECS = {
+    Draft202012Validator: referencing.jsonschema.DRAFT202012,
+    Draft201909Validator: referencing.jsonschema.DRAFT201909,
+    Draft7Validator: referencing.jsonschema.DRAFT7,
+}
+
+
+def _pointers(document: Any) -> dict[int, str]:
+    """``id(node) -> JSON Pointer`` for every object in *document* (iterative: no recursion limit)."""
+    out: dict[int, str] = {}
+    stack: list[tuple[Any, str]] = [(document, "")]
+    while stack:  # bounded: every container of the (size-limited) document is visited once
+        node, at = stack.pop()
+        if isinstance(node, dict):
+            out.setdefault(id(node), at)
+            stack.extend((v, at + pointer((k,))) for k, v in node.items())
+        elif isinstance(node, list):
+            stack.extend((v, f"{at}/{i}") for i, v in enumerate(node))
+    return out
+
+
 class ToolSchema:
-    """One input schema, compiled once.
+    """One input schema, read once: dialect, references, oracle.
 
     :param schema: the JSON Schema (a dict or a boolean schema).
     :param name: the tool's name, used in messages only.
-    :raises SchemaProblem: ``unknown-dialect``, ``invalid-schema``, ``remote-ref``, ``unresolvable-ref``
-        or ``recursive-ref``; nothing is ever fetched over the network.
+    :param recursion_depth: how often generation follows a recursive reference on one path
+        (:data:`DEFAULT_RECURSION_DEPTH`); validation is never bounded.
+    :raises SchemaProblem: ``unknown-dialect``, ``invalid-schema``, ``remote-ref``, ``unresolvable-ref``,
+        ``invalid-pattern`` or ``slow-pattern``; nothing is ever fetched over the network.
     """
 
-    def __init__(self, schema: Any, *, name: str | None = None) -> None:
+    def __init__(self, schema: Any, *, name: str | None = None, recursion_depth: int = DEFAULT_RECURSION_DEPTH) -> None:
         self.name = name
         self.schema = schema
-        where = f"tool {name!r}: " if name else ""
+        self.recursion_depth = max(0, int(recursion_depth))
+        where = self.where = f"tool {name!r}: " if name else ""
         if not isinstance(schema, (dict, bool)):
             raise SchemaProblem(
                 f"{where}the input schema must be a JSON object (or true/false), got {type(schema).__name__}",
@@ -183,100 +214,101 @@ class ToolSchema:
             raise SchemaProblem(
                 f"{where}not a valid {self.dialect} schema at {at}: {exc.message}", reason="invalid-schema"
             ) from exc
-        self._anchors = self._collect_anchors()
+        # The document's own resources only (the root and every embedded $id), crawled once; a registry
+        # with no retrieval function, so a reference outside the document is unresolvable, never fetched.
+        self.spec = _SPECS[self.validator_class]
+        root = self.spec.create_resource(schema)
+        self.registry = referencing.Registry().with_resource(root.id() or "", root).crawl()
+        self.root_resolver = self.registry.resolver(base_uri=root.id() or "")
+        self._at = _pointers(schema)
+        self._resolvers: dict[int, Any] = {}
+        #: JSON Pointers of the reference keywords that lead back to a node above them (``/$defs/node/...``).
+        self.recursive_refs: frozenset[str] = frozenset()
         self._check_references()
         self._check_patterns()
-        # An empty registry: local references resolve against the root, anything else is unresolvable
-        # (jsonschema's default registry would fetch remote references over the network).
         self.validator: Validator = ORACLES[self.validator_class](
-            schema,
-            format_checker=self.validator_class.FORMAT_CHECKER,
-            registry=referencing.Registry(),
+            schema, format_checker=self.validator_class.FORMAT_CHECKER, registry=self.registry
         )
         self._sub_validators: dict[int, tuple[Any, Validator]] = {}
-        self._inlined: dict[int, tuple[Any, Any]] = {}
 
     # -- references ---------------------------------------------------------------------------------
-    def _collect_anchors(self) -> dict[str, str]:
-        anchors: dict[str, str] = {}
+    def location(self, node: Any) -> str | None:
+        """The JSON Pointer of *node* (an object of this document), or None."""
+        return self._at.get(id(node))
 
-        def visit(node: Any, at: tuple[str | int, ...]) -> None:
-            if isinstance(node, dict):
-                for key in ("$anchor", "$dynamicAnchor"):
-                    if isinstance(node.get(key), str):
-                        anchors[node[key]] = pointer(at)
-                if isinstance(node.get("$id"), str) and node["$id"].startswith("#") and at:
-                    anchors[node["$id"][1:]] = pointer(at)  # draft-07 plain-name fragment
-            for rel, sub in subschemas(node):
-                visit(sub, at + rel)
+    def resolver_for(self, node: Any) -> Any:
+        """The ``referencing`` resolver in force at *node* (its base URI follows every ``$id`` above it)."""
+        return self._resolvers.get(id(node), self.root_resolver)
 
-        visit(self.schema, ())
-        return anchors
-
-    def resolve(self, ref: str) -> tuple[Any, str]:
-        """Return ``(subschema, pointer)`` for a local *ref*.
+    def lookup(self, ref: str, resolver: Any = None, keyword: str = "$ref") -> tuple[Any, str, Any]:
+        """``(subschema, JSON Pointer, resolver there)`` for *ref* seen where *resolver* is in force.
 
         :raises SchemaProblem: ``remote-ref`` for a reference outside this document,
-            ``unresolvable-ref`` for a local one that points nowhere.
+            ``unresolvable-ref`` for one inside it that points nowhere.
         """
-        where = f"tool {self.name!r}: " if self.name else ""
-        base, _, fragment = ref.partition("#")
-        root_id = self.schema.get("$id", "") if isinstance(self.schema, dict) else ""
-        if base and base != str(root_id).partition("#")[0]:
+        resolver = resolver if resolver is not None else self.root_resolver
+        try:
+            resolved = referencing.jsonschema.lookup_recursive_ref(resolver) if keyword == "$recursiveRef" else resolver.lookup(ref)
+        except (referencing.exceptions.PointerToNowhere, referencing.exceptions.NoSuchAnchor,
+                referencing.exceptions.InvalidAnchor) as exc:  # fmt: skip
+            raise SchemaProblem(f"{self.where}{keyword} {ref!r} cannot be resolved in the schema: {exc}",
+                                reason="unresolvable-ref") from None  # fmt: skip
+        except referencing.exceptions.Unresolvable:
             raise SchemaProblem(
-                f"{where}$ref {ref!r} points outside the schema; feeler resolves only local references "
-                "('#/$defs/...') and never fetches schemas over the network. Inline the referenced schema.",
+                f"{self.where}{keyword} {ref!r} points outside the schema; feeler resolves references inside the "
+                "document only ('#/$defs/...', an '$id' or '$anchor' the schema declares) and never fetches "
+                "schemas over the network. Inline the referenced schema.",
                 reason="remote-ref",
-            )
-        fragment = unquote(fragment)
-        if fragment and not fragment.startswith("/"):
-            if fragment not in self._anchors:
-                raise SchemaProblem(f"{where}$ref {ref!r}: no anchor {fragment!r} in the schema", reason="unresolvable-ref")
-            fragment = self._anchors[fragment]
-        node: Any = self.schema
-        for raw in fragment.split("/")[1:] if fragment else []:
-            part = raw.replace("~1", "/").replace("~0", "~")
-            try:
-                node = node[int(part)] if isinstance(node, list) else node[part]
-            except (KeyError, IndexError, ValueError, TypeError):
-                raise SchemaProblem(
-                    f"{where}$ref {ref!r} cannot be resolved: no {part!r} at {fragment!r}", reason="unresolvable-ref"
-                ) from None
-        return node, fragment
+            ) from None
+        contents = resolved.contents
+        at = self._at.get(id(contents))
+        if at is None:
+            if not isinstance(contents, bool):
+                raise SchemaProblem(f"{self.where}{keyword} {ref!r} does not point at a schema", reason="unresolvable-ref")
+            base, fragment = urldefrag(urljoin(str(resolver._base_uri), ref))  # noqa: SLF001 - the base URI in force
+            home = self.registry.get(base)
+            at = (self._at.get(id(home.contents), "") if home is not None else "") + fragment
+        return contents, at, resolved.resolver
+
+    def resolve(self, ref: str, resolver: Any = None) -> tuple[Any, str]:
+        """``(subschema, JSON Pointer)`` for *ref* (see :meth:`lookup`)."""
+        contents, at, _ = self.lookup(ref, resolver)
+        return contents, at
 
     def _check_references(self) -> None:
-        where = f"tool {self.name!r}: " if self.name else ""
-        done: set[str] = set()
-
-        def visit(node: Any, stack: tuple[str, ...]) -> None:
-            if not isinstance(node, dict):
-                return
-            for key in ("$dynamicRef", "$recursiveRef"):
-                if key in node:
-                    raise SchemaProblem(
-                        f"{where}{key} is not supported for generation (it makes the schema recursive)",
-                        reason="recursive-ref",
-                    )
-            ref = node.get("$ref")
-            if isinstance(ref, str):
-                target, at = self.resolve(ref)
-                if at in stack:
-                    raise SchemaProblem(
-                        f"{where}$ref {ref!r} is recursive ({' -> '.join(stack[stack.index(at):] + (at,)) or '#'}); "
-                        "feeler generates from finite schemas only. Bound the nesting by unrolling it a few levels.",
-                        reason="recursive-ref",
-                    )
-                if at not in done:
-                    visit(target, stack + (at,))
-                    done.add(at)
-            for _, sub in subschemas(node):
-                visit(sub, stack)
-
-        visit(self.schema, ("",))
+        """Resolve every reference once (so a bad one fails here, per tool) and find the recursive ones."""
+        edges: dict[str, list[str]] = {}
+        refs: list[tuple[str, str]] = []
+        stack: list[tuple[Any, str, Any]] = [(self.schema, "", self.root_resolver)]
+        while stack:  # bounded: each document node is visited once
+            node, at, resolver = stack.pop()
+            if isinstance(node, dict):
+                if isinstance(node.get("$id"), str) and not node["$id"].startswith("#"):
+                    resolver = resolver.in_subresource(self.spec.create_resource(node))
+                self._resolvers[id(node)] = resolver
+                for keyword in REF_KEYWORDS:
+                    if isinstance(node.get(keyword), str):
+                        _, target, _ = self.lookup(node[keyword], resolver, keyword)
+                        edges.setdefault(at, []).append(target)
+                        refs.append((at + pointer((keyword,)), target))
+            for rel, sub in subschemas(node):
+                edges.setdefault(at, []).append(at + pointer(rel))
+                stack.append((sub, at + pointer(rel), resolver))
+        recursive = set()
+        for ref_at, target in refs:
+            holder = ref_at.rpartition("/")[0]
+            seen, todo = set(), [target]
+            while todo:  # bounded by the number of document nodes
+                here = todo.pop()
+                if here == holder:
+                    recursive.add(ref_at)
+                    break
+                if here not in seen:
+                    seen.add(here)
+                    todo.extend(edges.get(here, ()))
+        self.recursive_refs = frozenset(recursive)
 
     def _check_patterns(self) -> None:
-        where = f"tool {self.name!r}: " if self.name else ""
-
         def visit(node: Any, at: tuple[str | int, ...]) -> None:
             if isinstance(node, dict):
                 found = [(("pattern",), node["pattern"])] if isinstance(node.get("pattern"), str) else []
@@ -285,7 +317,7 @@ class ToolSchema:
                     try:
                         _ecma.check(regex)
                     except _ecma.PatternError as exc:
-                        raise SchemaProblem(f"{where}{pointer(at + rel)}: {exc}", reason=exc.reason) from None
+                        raise SchemaProblem(f"{self.where}{pointer(at + rel)}: {exc}", reason=exc.reason) from None
             for rel, sub in subschemas(node):
                 visit(sub, at + rel)
 
@@ -300,59 +332,19 @@ class ToolSchema:
         """Every error the oracle reports for *instance* (top level; combinator details sit in ``context``)."""
         return list(self.validator.iter_errors(instance))
 
+    def validator_for(self, subschema: Any) -> Validator:
+        """The oracle for *subschema*, a node of this document (its references resolve where it sits)."""
+        # Keyed by id(); the entry keeps the node alive so an id is never reused for another node.
+        entry = self._sub_validators.get(id(subschema))
+        if entry is None:
+            made = self.validator.evolve(schema=subschema, _resolver=self.resolver_for(subschema))
+            entry = self._sub_validators[id(subschema)] = (subschema, made)
+        return entry[1]
+
     def valid_under(self, subschema: Any, instance: Any) -> bool:
-        """Is *instance* valid against *subschema*, a node of this document (local refs still resolve)?"""
+        """Is *instance* valid against *subschema*, a node of this document?"""
         if subschema is True or subschema == {}:
             return True
         if subschema is False:
             return False
-        # Keyed by id(); the entry keeps the node alive so an id is never reused for another node.
-        entry = self._sub_validators.get(id(subschema))
-        if entry is None:
-            entry = self._sub_validators[id(subschema)] = (subschema, self.validator.evolve(schema=subschema))
-        return entry[1].is_valid(instance)
-
-    # -- inlining, for hypothesis-jsonschema -----------------------------------------------------------
-    def inlined(self, node: Any) -> Any:
-        """*node* with every local ``$ref`` replaced by its target (finite: recursion was refused above).
-
-        hypothesis-jsonschema resolves references itself, but only against the fragment it is given,
-        so a subschema handed to it must carry its targets inline.
-        """
-        entry = self._inlined.get(id(node))
-        if entry is None:
-            entry = self._inlined[id(node)] = (node, self._inline(node))
-        return entry[1]
-
-    def _inline(self, node: Any) -> Any:
-        if isinstance(node, list):
-            return [self._inline(n) for n in node]
-        if not isinstance(node, dict):
-            return node
-        out: dict[str, Any] = {}
-        for key, value in node.items():
-            if key in ("$defs", "definitions", "$schema", "$id", "$anchor", "$comment"):
-                continue
-            if key in ("enum", "const", "default", "examples"):
-                out[key] = copy.deepcopy(value)
-            elif key == "$ref":
-                continue
-            elif key in SCHEMA_KEYWORDS or key in SCHEMA_LIST_KEYWORDS or key == "items":
-                out[key] = self._inline(value)
-            elif key in SCHEMA_MAP_KEYWORDS or key == "dependencies":
-                out[key] = {k: self._inline(v) for k, v in value.items()} if isinstance(value, dict) else value
-            else:
-                out[key] = value
-        if isinstance(node.get("$ref"), str):
-            target = self._inline(self.resolve(node["$ref"])[0])
-            if self.ref_overrides or not out:
-                return target
-            out = {"allOf": [target, out]}
-        return out
-
-
-def compile_schema(schema: Any, *, name: str | None = None) -> ToolSchema:
-    """Return *schema* compiled as a :class:`ToolSchema` (a :class:`ToolSchema` is returned as is)."""
-    check_schema_limits(schema, name=name)  # feeler._limits: depth, size, enum (a ToolSchema passes as is)
-    return schema if isinstance(schema, ToolSchema) else ToolSchema(schema, name=name)
-
+        return self.validator_for(subschema).is_valid(instance)

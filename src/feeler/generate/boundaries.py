@@ -2,7 +2,11 @@
 
 Each function yields ``(note, value)`` pairs for one site: values that sit exactly on a bound the
 keyword sets (JSON Schema 2020-12 validation spec, section 6). The runner puts each into the valid
-instance and keeps it only if the oracle accepts the whole instance.
+instance and keeps it only if the oracle accepts the whole instance. Producers read the compiled model:
+``site.kw`` holds the node's own keywords (counts normalised), ``_shape(ts, site)`` the merged shape.
+
+To add one: write ``def myKeyword(ts, site, value) -> Iterator[tuple[str, Any]]`` here and add it to
+:data:`BOUNDARIES` (and to :data:`BOUND_KEYWORDS` when its values sit on a limit the schema names).
 """
 
 from __future__ import annotations
@@ -11,8 +15,9 @@ import math
 from collections.abc import Callable, Iterator
 from typing import Any
 
-from feeler.generate._build import Unbuildable, example, multiple_at_least, node_types, variants
+from feeler.generate._build import Unbuildable, example, multiple_at_least, variants
 from feeler.generate._formats import FORMAT_SAMPLES
+from feeler.generate._model import Shape, model_of
 from feeler.generate._regex import regex_example
 from feeler.generate._schema import ToolSchema
 from feeler.generate._walk import Site
@@ -25,8 +30,12 @@ Boundary = Callable[[ToolSchema, Site, Any], Iterator[tuple[str, Any]]]
 ASTRAL = "\U0001d11e"
 
 
-def _integer_only(site: Site) -> bool:
-    types = node_types(site.node)
+def _shape(ts: ToolSchema, site: Site) -> Shape:
+    return model_of(ts).shape_of(site.node)
+
+
+def _integer_only(ts: ToolSchema, site: Site) -> bool:
+    types = _shape(ts, site).types
     return "integer" in types and "number" not in types
 
 
@@ -38,8 +47,8 @@ def minimum(ts: ToolSchema, site: Site, bound: float) -> Iterator[tuple[str, Any
     """The minimum itself (the smallest multiple at or above it when multipleOf is set)."""
     if not _numeric(site):
         return
-    step = site.node.get("multipleOf")
-    value = multiple_at_least(bound, step) if step else (math.ceil(bound) if _integer_only(site) else bound)
+    step = site.kw.get("multipleOf")
+    value = multiple_at_least(bound, step) if step else (math.ceil(bound) if _integer_only(ts, site) else bound)
     yield f"minimum {bound}", value
 
 
@@ -47,8 +56,8 @@ def maximum(ts: ToolSchema, site: Site, bound: float) -> Iterator[tuple[str, Any
     """The maximum itself (the largest multiple at or below it when multipleOf is set)."""
     if not _numeric(site):
         return
-    step = site.node.get("multipleOf")
-    value = -multiple_at_least(-bound, step) if step else (math.floor(bound) if _integer_only(site) else bound)
+    step = site.kw.get("multipleOf")
+    value = -multiple_at_least(-bound, step) if step else (math.floor(bound) if _integer_only(ts, site) else bound)
     yield f"maximum {bound}", value
 
 
@@ -56,10 +65,10 @@ def exclusiveMinimum(ts: ToolSchema, site: Site, bound: Any) -> Iterator[tuple[s
     """The nearest value inside: bound + 1 for integers, the next float up for numbers."""
     if not _numeric(site) or isinstance(bound, bool):
         return
-    step = site.node.get("multipleOf")
+    step = site.kw.get("multipleOf")
     if step:
         value: Any = multiple_at_least(bound, step, exclusive=True)
-    elif _integer_only(site):
+    elif _integer_only(ts, site):
         value = math.floor(bound) + 1
     else:
         value = math.nextafter(bound, math.inf)
@@ -70,10 +79,10 @@ def exclusiveMaximum(ts: ToolSchema, site: Site, bound: Any) -> Iterator[tuple[s
     """The nearest value inside: bound - 1 for integers, the next float down for numbers."""
     if not _numeric(site) or isinstance(bound, bool):
         return
-    step = site.node.get("multipleOf")
+    step = site.kw.get("multipleOf")
     if step:
         value: Any = -multiple_at_least(-bound, step, exclusive=True)
-    elif _integer_only(site):
+    elif _integer_only(ts, site):
         value = math.ceil(bound) - 1
     else:
         value = math.nextafter(bound, -math.inf)
@@ -89,7 +98,7 @@ def multipleOf(ts: ToolSchema, site: Site, step: float) -> Iterator[tuple[str, A
 
 
 def _exact_length(site: Site, length: int) -> Iterator[str]:
-    node = site.node
+    node = site.kw
     if "pattern" in node:
         for grow in range(0, length + 2):
             text = regex_example(node["pattern"], grow)
@@ -118,11 +127,10 @@ def _items(ts: ToolSchema, site: Site, count: int) -> list[Any]:
     value = site.value
     if len(value) >= count:
         return value[:count]
-    node = site.node
-    item_schema = node.get("items", True) if isinstance(node.get("items", True), (dict, bool)) else True
-    if node.get("uniqueItems"):
-        return variants(ts, item_schema, count)
-    filler = value[-1] if value else example(ts, item_schema)
+    shape = _shape(ts, site)
+    if site.kw.get("uniqueItems"):
+        return value + [v for v in variants(shape.rest, count + len(value)) if v not in value][: count - len(value)]
+    filler = value[-1] if value else example(shape.item(0))
     return value + [filler] * (count - len(value))
 
 
@@ -172,17 +180,18 @@ def pattern(ts: ToolSchema, site: Site, regex: str) -> Iterator[tuple[str, Any]]
 
 def _object_with(ts: ToolSchema, site: Site, count: int) -> dict | None:
     value = site.value
-    need = set(site.node.get("required", []))
+    need = set(site.kw.get("required", []))
     keys = sorted(value, key=lambda k: k not in need)
     if len(keys) >= count:
         return {k: value[k] for k in keys[:count]}
     out = dict(value)
-    for name, sub in (site.node.get("properties") or {}).items():
+    shape = _shape(ts, site)
+    for name in shape.declared:
         if len(out) >= count:
             break
         if name not in out:
             try:
-                out[name] = example(ts, sub)
+                out[name] = example(shape.for_key(name))
             except Unbuildable:
                 continue
     return out if len(out) == count else None
@@ -208,7 +217,7 @@ def required(ts: ToolSchema, site: Site, names: list[str]) -> Iterator[tuple[str
     """The smallest object: the required properties only (plus what dependentRequired then asks for)."""
     if isinstance(site.value, dict) and not site.key_mode:
         smallest = {k: v for k, v in site.value.items() if k in names}
-        for trigger, needs in (site.node.get("dependentRequired") or {}).items():
+        for trigger, needs in _shape(ts, site).depends.items():
             if trigger in smallest:
                 smallest.update({n: site.value[n] for n in needs if n in site.value})
         yield "smallest object: required properties only", smallest
@@ -218,10 +227,11 @@ def properties(ts: ToolSchema, site: Site, props: dict) -> Iterator[tuple[str, A
     """The fullest object: every declared property present."""
     if isinstance(site.value, dict) and not site.key_mode:
         fullest = dict(site.value)
-        for name, sub in props.items():
+        shape = _shape(ts, site)
+        for name in props:
             if name not in fullest:
                 try:
-                    fullest[name] = example(ts, sub, full=True)
+                    fullest[name] = example(shape.for_key(name), full=True)
                 except Unbuildable:
                     continue
         yield "fullest object: every optional property", fullest

@@ -14,7 +14,8 @@ import click
 from feeler._read import read_json
 from feeler.cli_options import apply_renamed, renamed_option
 from feeler.errors import SchemaProblem, UsageError
-from feeler.generate._schema import ToolSchema, compile_schema
+from feeler.generate._model import compile_schema
+from feeler.generate._schema import ToolSchema
 from feeler.generate.cases import Tally, go_cases, nogo_cases
 
 __all__ = ["cases", "load_schema"]

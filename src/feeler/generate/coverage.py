@@ -11,21 +11,24 @@ from collections.abc import Iterable
 from dataclasses import dataclass
 from typing import Any
 
-from feeler.generate._schema import SCHEMA_KEYWORDS, SCHEMA_LIST_KEYWORDS, SCHEMA_MAP_KEYWORDS, ToolSchema, compile_schema, pointer, subschemas
+from feeler.generate._model import ANNOTATIONS, compile_schema
+from feeler.generate._schema import SCHEMA_KEYWORDS, SCHEMA_LIST_KEYWORDS, SCHEMA_MAP_KEYWORDS, ToolSchema, pointer, subschemas
 from feeler.generate._walk import sites
 from feeler.generate.cases import Case
 from feeler.generate.mutators import MUTATORS
 
 __all__ = ["KeywordCoverage", "coverage"]
 
-#: Keywords that constrain nothing (JSON Schema 2020-12 core section 8 and validation section 9).
-ANNOTATIONS = frozenset({
-    "title", "description", "default", "examples", "$comment", "deprecated", "readOnly", "writeOnly",
-    "$schema", "$id", "$anchor", "$dynamicAnchor", "$defs", "definitions", "contentMediaType",
-    "contentEncoding", "contentSchema", "$vocabulary",
-})  # fmt: skip
 APPLICATORS = frozenset({*SCHEMA_KEYWORDS, *SCHEMA_LIST_KEYWORDS, *SCHEMA_MAP_KEYWORDS, "items", "dependencies", "$ref"}) - ANNOTATIONS
 _ALL_TYPES = {"null", "boolean", "integer", "number", "string", "array", "object"}
+
+
+#: Why keywords below these applicators get no no-go case of their own (JSON Schema 2020-12 core 10.2-10.3).
+INSIDE = {
+    "not": "inside not: breaking this keyword makes the value valid (core 10.2.1.4)",
+    "if": "inside if: if only selects then/else and never fails (core 10.2.2.1)",
+    "contains": "inside contains: an item failing it is only not counted; contains itself fails (core 10.3.1.3)",
+}
 
 
 @dataclass(frozen=True)
@@ -63,13 +66,16 @@ def _inventory(ts: ToolSchema) -> list[tuple[str, str, Any, Any]]:
 def _why(ts: ToolSchema, at: str, keyword: str, node: Any, value: Any, reached: bool) -> str:
     if keyword == "{}":
         return "the empty schema accepts every value: nothing to violate"
+    inside = next((k for k in ("not", "if", "contains") if f"/{k}/" in at + "/"), None)
+    if inside:
+        return INSIDE[inside]
     if not reached:
         return "no go case reaches this location, so no one-keyword violation could be built there"
     if keyword == "type" and at == "" and value in ("object", ["object"]):
         return "arguments must be a JSON object on the wire; other types are sent as protocol probes"
     if keyword == "type" and set([value] if isinstance(value, str) else value) >= _ALL_TYPES - {"integer"}:
         return "every JSON type is allowed"
-    if keyword in ("minLength", "minItems", "minProperties") and value == 0:
+    if keyword in ("minLength", "minItems", "minProperties", "minContains") and value == 0:
         return f"{keyword} 0 is met by every value"
     if keyword == "uniqueItems" and value is False:
         return "uniqueItems false constrains nothing"
@@ -101,25 +107,36 @@ def coverage(schema: Any, cases: Iterable[Case]) -> list[KeywordCoverage]:
         if case.kind == "go":
             for site in sites(ts, case.arguments):
                 reached.add(site.pointer)
-                for keyword in site.node:
+                for keyword in site.kw:
                     go[(site.pointer, keyword)] = go.get((site.pointer, keyword), 0) + 1
         else:
             node_at, _, keyword = case.schema_path.rpartition("/")
             nogo[(node_at, keyword)] = nogo.get((node_at, keyword), 0) + 1
             nogo_paths.append(case.schema_path)
     out = []
-    for at, keyword, node, value in _inventory(ts):
+    inventory = _inventory(ts)
+    # Each reference's place and its target: a no-go case in the target counts for every applicator above the $ref.
+    refs = [(f"{at}/$ref", ts.resolve(value, ts.resolver_for(node))[1]) for at, keyword, node, value in inventory
+            if keyword == "$ref" and isinstance(value, str)]  # fmt: skip
+
+    def below(prefix: str) -> int:
+        count = sum(1 for p in nogo_paths if p.startswith(prefix))
+        for ref, target in refs:
+            if ref.startswith(prefix):
+                count += sum(1 for p in nogo_paths if p.startswith(target + "/"))
+        return count
+
+    for at, keyword, node, value in inventory:
         n_go = go.get((at, keyword), 0)
         n_nogo = nogo.get((at, keyword), 0)
         if keyword in APPLICATORS and not n_nogo:
             if keyword == "$ref":
-                target = ts.resolve(value)[1]
+                target = ts.resolve(value, ts.resolver_for(node))[1]
                 n_nogo = sum(1 for p in nogo_paths if p.startswith(target + "/"))
+            elif keyword == "if":
+                n_nogo = below(f"{at}/then/") + below(f"{at}/else/")
             else:
-                prefix = f"{at}/{keyword}/"
-                n_nogo = sum(1 for p in nogo_paths if p.startswith(prefix))
-                if keyword == "if":
-                    n_nogo = sum(1 for p in nogo_paths if p.startswith(f"{at}/then/") or p.startswith(f"{at}/else/"))
+                n_nogo = below(f"{at}/{keyword}/")
         if keyword == "{}":
             n_go = 1 if at in reached else 0
         reason = None if n_nogo else _why(ts, at, keyword, node, value, at in reached)

@@ -7,8 +7,13 @@ keeps it only if ``jsonschema`` reports an error with this keyword at this locat
 2020-12 validation spec, section 6 for each keyword's meaning). Keywords that are only applicators
 (``properties``, ``items``, ``allOf``, ``then``...) have no mutator: the walker descends into them.
 
+Mutators read the compiled model: ``site.kw`` is the node's own keywords (counts normalised), and
+values they need (an item to add, a property to fill in) come from :func:`_build.example` on a
+:class:`~._model.Shape` (``_shape(ts, site)``, ``site.node.child(...)``).
+
 To add a keyword: write ``def myKeyword(ts, site, value) -> Iterator[Any]`` here and add it to
-:data:`MUTATORS`; tests/generate/test_gen_properties.py then holds it to the oracle.
+:data:`MUTATORS`; the corpus test (tests/generate/test_gen_keywords.py) then holds it to the oracle
+and fails if a place of that keyword is left unbroken.
 """
 
 from __future__ import annotations
@@ -17,8 +22,10 @@ import math
 from collections.abc import Callable, Iterator
 from typing import Any
 
-from feeler.generate._build import Unbuildable, example, node_types, variants
+from feeler.generate import _ecma
+from feeler.generate._build import Unbuildable, example, find_value, variants
 from feeler.generate._formats import FORMAT_NEAR_MISSES
+from feeler.generate._model import Shape, model_of
 from feeler.generate._schema import ToolSchema
 from feeler.generate._walk import Site
 
@@ -85,21 +92,30 @@ def required(ts: ToolSchema, site: Site, names: list[str]) -> Iterator[Any]:
                 yield {k: v for k, v in site.value.items() if k != name}
 
 
-def _unknown_key(site: Site) -> Iterator[Any]:
+#: Names tried for an unknown key, in order: the first that no property declares and no pattern matches.
+_UNKNOWN_KEYS = (UNKNOWN_KEY, "Feeler-Unknown", "9 unknown!")
+
+
+def _unknown_key(ts: ToolSchema, site: Site) -> Iterator[Any]:
     if isinstance(site.value, dict):
-        yield {**site.value, UNKNOWN_KEY: "unexpected"}
+        shape = _shape(ts, site)
+        for key in _UNKNOWN_KEYS:
+            if key not in site.value and key not in shape.declared and not any(_ecma.search(p, key) for p in shape.pattern_keys):
+                yield {**site.value, key: "unexpected"}
+                return
 
 
 def additionalProperties(ts: ToolSchema, site: Site, spec: Any) -> Iterator[Any]:
-    """An unknown key where ``additionalProperties`` is false (a schema form is walked into instead)."""
+    """An unknown key (one no ``patternProperties`` matches) where ``additionalProperties`` is false (a
+    schema form is walked into instead)."""
     if spec is False:
-        yield from _unknown_key(site)
+        yield from _unknown_key(ts, site)
 
 
 def unevaluatedProperties(ts: ToolSchema, site: Site, spec: Any) -> Iterator[Any]:
     """An unknown key where ``unevaluatedProperties`` is false."""
     if spec is False:
-        yield from _unknown_key(site)
+        yield from _unknown_key(ts, site)
 
 
 def enum(ts: ToolSchema, site: Site, members: list[Any]) -> Iterator[Any]:
@@ -114,14 +130,18 @@ def const(ts: ToolSchema, site: Site, value: Any) -> Iterator[Any]:
     yield from near_misses(value)
 
 
-def _integer_only(site: Site) -> bool:
-    types = node_types(site.node)
+def _shape(ts: ToolSchema, site: Site) -> Shape:
+    return model_of(ts).shape_of(site.node)
+
+
+def _integer_only(ts: ToolSchema, site: Site) -> bool:
+    types = _shape(ts, site).types
     return "integer" in types and "number" not in types
 
 
 def minimum(ts: ToolSchema, site: Site, bound: float) -> Iterator[Any]:
     """One step below: 1 for integers, the next float down for numbers."""
-    if _integer_only(site):
+    if _integer_only(ts, site):
         yield math.ceil(bound) - 1
     else:
         yield math.nextafter(bound, -math.inf)
@@ -130,7 +150,7 @@ def minimum(ts: ToolSchema, site: Site, bound: float) -> Iterator[Any]:
 
 def maximum(ts: ToolSchema, site: Site, bound: float) -> Iterator[Any]:
     """One step above: 1 for integers, the next float up for numbers."""
-    if _integer_only(site):
+    if _integer_only(ts, site):
         yield math.floor(bound) + 1
     else:
         yield math.nextafter(bound, math.inf)
@@ -141,14 +161,14 @@ def exclusiveMinimum(ts: ToolSchema, site: Site, bound: Any) -> Iterator[Any]:
     """The bound itself (the first value past the nearest inside value)."""
     if isinstance(bound, bool):  # draft-04 boolean form: not one of our dialects
         return
-    yield math.floor(bound) if _integer_only(site) else bound
+    yield math.floor(bound) if _integer_only(ts, site) else bound
 
 
 def exclusiveMaximum(ts: ToolSchema, site: Site, bound: Any) -> Iterator[Any]:
     """The bound itself."""
     if isinstance(bound, bool):
         return
-    yield math.ceil(bound) if _integer_only(site) else bound
+    yield math.ceil(bound) if _integer_only(ts, site) else bound
 
 
 def multipleOf(ts: ToolSchema, site: Site, step: float) -> Iterator[Any]:
@@ -196,8 +216,7 @@ def format_(ts: ToolSchema, site: Site, name: str) -> Iterator[Any]:
 def _item_for(ts: ToolSchema, site: Site) -> Any:
     if site.value:
         return site.value[-1]
-    items = site.node.get("items", True)
-    return example(ts, items if isinstance(items, (dict, bool)) else True)
+    return example(_shape(ts, site).item(0))
 
 
 def minItems(ts: ToolSchema, site: Site, low: int) -> Iterator[Any]:
@@ -210,9 +229,9 @@ def maxItems(ts: ToolSchema, site: Site, high: int) -> Iterator[Any]:
     """One item too many (distinct items when uniqueItems is set, so only maxItems breaks)."""
     if not isinstance(site.value, list):
         return
-    if site.node.get("uniqueItems"):
+    if site.kw.get("uniqueItems"):
         try:
-            yield variants(ts, site.node.get("items", True) if isinstance(site.node.get("items", True), (dict, bool)) else True, high + 1)
+            yield variants(_shape(ts, site).rest, high + 1)
         except Unbuildable:
             pass
     try:
@@ -238,7 +257,7 @@ def uniqueItems(ts: ToolSchema, site: Site, unique: bool) -> Iterator[Any]:
 def minProperties(ts: ToolSchema, site: Site, low: int) -> Iterator[Any]:
     """One property short (optional properties dropped first)."""
     if low > 0 and isinstance(site.value, dict):
-        needed = set(site.node.get("required", []))
+        needed = set(site.kw.get("required", []))
         keys = sorted(site.value, key=lambda k: k in needed)
         keep = set(keys[len(keys) - (low - 1):]) if low > 1 else set()
         yield {k: v for k, v in site.value.items() if k in keep}
@@ -249,12 +268,13 @@ def maxProperties(ts: ToolSchema, site: Site, high: int) -> Iterator[Any]:
     if not isinstance(site.value, dict):
         return
     out = dict(site.value)
-    for name, sub in (site.node.get("properties") or {}).items():
+    shape = _shape(ts, site)
+    for name in shape.declared:
         if len(out) > high:
             break
         if name not in out:
             try:
-                out[name] = example(ts, sub)
+                out[name] = example(shape.for_key(name))
             except Unbuildable:
                 continue
     i = 0
@@ -273,7 +293,7 @@ def _dependent(ts: ToolSchema, site: Site, mapping: dict) -> Iterator[Any]:
         base = dict(site.value)
         if trigger not in base:
             try:
-                base[trigger] = example(ts, (site.node.get("properties") or {}).get(trigger, True))
+                base[trigger] = example(_shape(ts, site).for_key(trigger))
             except Unbuildable:
                 continue
         for need in needs:
@@ -293,52 +313,87 @@ def dependencies(ts: ToolSchema, site: Site, mapping: dict) -> Iterator[Any]:
 _POOL = (None, True, 0, -1, 1.5, "", "zz", [], {})
 
 
-def _without_branch_keys(site: Site, branches: list) -> Iterator[Any]:
+def _without_branch_keys(site: Site, keyword: str) -> Iterator[Any]:
     if isinstance(site.value, dict):
-        named = {k for b in branches if isinstance(b, dict) for k in (*b.get("required", []), *(b.get("properties") or {}))}
+        named = {k for _, b in site.node.children(keyword) for k in (*b.kw.get("required", []), *(b.kw.get("properties") or {}))}
         yield {k: v for k, v in site.value.items() if k not in named}
 
 
 def anyOf(ts: ToolSchema, site: Site, branches: list) -> Iterator[Any]:
-    """A value no branch accepts: other types, and the object stripped of every branch's keys."""
-    yield from _without_branch_keys(site, branches)
+    """A value no branch accepts: other types, and the object stripped of every branch's keys.
+
+    Branch-local cases (a keyword inside one branch broken while no branch accepts the value) come from
+    the walk: it enters each branch the value goes through (JSON Schema 2020-12 core 10.2.1.2)."""
+    yield from _without_branch_keys(site, "anyOf")
     yield from _POOL
     yield from near_misses(site.value)
 
 
 def oneOf(ts: ToolSchema, site: Site, branches: list) -> Iterator[Any]:
-    """A value no branch accepts, or one two branches accept at once."""
-    yield from _without_branch_keys(site, branches)
+    """A value no branch accepts, and a value two branches accept at once (2020-12 core 10.2.1.3: exactly one)."""
+    yield from _overlaps(ts, site)
+    yield from _without_branch_keys(site, "oneOf")
+    yield from _POOL
+    yield from near_misses(site.value)
+
+
+def _overlaps(ts: ToolSchema, site: Site) -> Iterator[Any]:
+    """Values valid under two ``oneOf`` branches (and every other keyword of the node), searched per pair."""
+    shape = _shape(ts, site)
+    location = site.pointer + "/oneOf"
+    branches = [b for _, b in site.node.children("oneOf")]
     if isinstance(site.value, dict):
         merged = dict(site.value)
         for branch in branches:
             try:
-                extra = example(ts, branch, full=True)
+                extra = example(model_of(ts).shape_of(branch), full=True)
             except Unbuildable:
                 continue
             if isinstance(extra, dict):
                 merged = {**extra, **merged}
         yield merged
-    yield from _POOL
-    yield from near_misses(site.value)
+    for i, first in enumerate(branches):
+        for second in branches[i + 1 :]:
+            both = shape.choose(location, first, second)
+            try:
+                # Construction and the seeded sampler only: a hypothesis search per pair costs seconds.
+                yield find_value(both, lambda v, a=first, b=second: ts.valid_under(a.raw, v) and ts.valid_under(b.raw, v),
+                                 search=False)  # fmt: skip
+            except Unbuildable:
+                continue
 
 
 def not_(ts: ToolSchema, site: Site, forbidden: Any) -> Iterator[Any]:
     """A value the forbidden subschema accepts (alone, and merged into the valid object)."""
+    node = site.node.child("not")
+    if node is None:
+        return
+    shape = model_of(ts).shape_of(node)
     for full in (False, True):
         try:
-            value = example(ts, forbidden, full)
+            value = example(shape, full)
         except Unbuildable:
             continue
         if isinstance(value, dict) and isinstance(site.value, dict):
             yield {**site.value, **value}
         yield value
+    try:
+        # A value of the node's other keywords that the forbidden subschema accepts.
+        yield find_value(_shape(ts, site).choose(site.pointer + "/not", node))
+    except Unbuildable:
+        pass
+
+
+def _matches(ts: ToolSchema, site: Site, value: list) -> list[int]:
+    node = site.node.child("contains")
+    return [i for i, v in enumerate(value) if node is not None and ts.valid_under(node.raw, v)]
 
 
 def contains(ts: ToolSchema, site: Site, wanted: Any) -> Iterator[Any]:
     """An array with no item the ``contains`` subschema accepts."""
     if isinstance(site.value, list):
-        rest = [v for v in site.value if not ts.valid_under(wanted, v)]
+        matched = set(_matches(ts, site, site.value))
+        rest = [v for i, v in enumerate(site.value) if i not in matched]
         if rest:
             yield rest
         yield []
@@ -346,27 +401,66 @@ def contains(ts: ToolSchema, site: Site, wanted: Any) -> Iterator[Any]:
             yield [sample]
 
 
-def _past_prefix(ts: ToolSchema, site: Site, prefix: list) -> Iterator[Any]:
+def minContains(ts: ToolSchema, site: Site, low: int) -> Iterator[Any]:
+    """One matching item short of ``minContains`` (2020-12 validation 6.4.5); jsonschema reports it under ``contains``."""
+    if not isinstance(site.value, list) or low < 2:
+        return
+    matched = _matches(ts, site, site.value)
+    drop = set(matched[low - 1 :])
+    yield [v for i, v in enumerate(site.value) if i not in drop]
+    others = [v for i, v in enumerate(site.value) if i not in matched]
+    if matched:
+        yield others + [site.value[matched[0]]] * (low - 1)
+
+
+def maxContains(ts: ToolSchema, site: Site, high: int) -> Iterator[Any]:
+    """One matching item past ``maxContains`` (2020-12 validation 6.4.4); jsonschema reports it under ``contains``."""
+    node = site.node.child("contains")
+    if not isinstance(site.value, list) or node is None:
+        return
+    item_shape = _shape(ts, site).rest.merge(model_of(ts).shape_of(node))
+    matched = _matches(ts, site, site.value)
+    try:
+        if site.kw.get("uniqueItems"):
+            yield [v for i, v in enumerate(site.value) if i not in set(matched)] + variants(item_shape, high + 1)
+        else:
+            item = site.value[matched[0]] if matched else example(item_shape)
+            yield site.value + [item] * (high + 1 - len(matched))
+    except Unbuildable:
+        return
+
+
+def _past_prefix(ts: ToolSchema, site: Site, count: int) -> Iterator[Any]:
     if not isinstance(site.value, list):
         return
     value = list(site.value)
+    shape = _shape(ts, site)
     try:
-        value += [example(ts, sub) for sub in prefix[len(value):]]
+        value += [example(shape.item(i)) for i in range(len(value), count)]
     except Unbuildable:
         return
     yield value + [None]
+    yield value + ["feeler-extra-item"]
 
 
 def items(ts: ToolSchema, site: Site, spec: Any) -> Iterator[Any]:
     """An extra item past ``prefixItems`` where ``items`` is false (2020-12)."""
     if spec is False:
-        yield from _past_prefix(ts, site, site.node.get("prefixItems") or [])
+        yield from _past_prefix(ts, site, len(site.kw.get("prefixItems") or []))
 
 
 def additionalItems(ts: ToolSchema, site: Site, spec: Any) -> Iterator[Any]:
     """An extra item past the tuple where ``additionalItems`` is false (draft-07 array form of ``items``)."""
-    if spec is False and isinstance(site.node.get("items"), list):
-        yield from _past_prefix(ts, site, site.node["items"])
+    if spec is False and isinstance(site.kw.get("items"), list):
+        yield from _past_prefix(ts, site, len(site.kw["items"]))
+
+
+def unevaluatedItems(ts: ToolSchema, site: Site, spec: Any) -> Iterator[Any]:
+    """An item past every item the node evaluates where ``unevaluatedItems`` is false (2020-12 core 11.2);
+    a schema form is walked into."""
+    if spec is False:
+        count = len(site.kw.get("prefixItems") or site.kw.get("items") or []) if not isinstance(site.kw.get("items"), dict) else 0
+        yield from _past_prefix(ts, site, count)
 
 
 #: keyword -> mutator. Named like the keyword, with a trailing "_" where that is a Python name.
@@ -397,6 +491,9 @@ MUTATORS: dict[str, Mutator] = {
     "oneOf": oneOf,
     "not": not_,
     "contains": contains,
+    "minContains": minContains,
+    "maxContains": maxContains,
     "items": items,
     "additionalItems": additionalItems,
+    "unevaluatedItems": unevaluatedItems,
 }
