@@ -102,7 +102,7 @@ def test_server_everything(tmp_path: Path) -> None:
     assert set(report["tools"]) == {*_CALLED, TASK_TOOL}
     assert report["restarts"] == 0
     assert "taskSupport: required" in report["tools"][TASK_TOOL]["skipped"]
-    assert report["tools"][TASK_TOOL]["goCalls"] == 0
-    assert report["tools"]["gzip-file-as-resource"]["goEntered"] > 0
+    assert report["tools"][TASK_TOOL]["go"]["calls"] == 0
+    assert report["tools"]["gzip-file-as-resource"]["go"]["entered"] > 0
     got = _found(report)
     assert got == EVERYTHING_EXPECTED, {"new": sorted(got - EVERYTHING_EXPECTED), "gone": sorted(EVERYTHING_EXPECTED - got)}

@@ -99,6 +99,10 @@ def _number(shape: Shape, integer: bool) -> Any:
             start = 0
         if integer and not float(start).is_integer():
             raise Unbuildable
+    elif not integer and not float(start).is_integer() and (high is None or math.ceil(start) <= high):
+        # An exclusive or fractional bound: the smallest whole number inside it reads like real data (a
+        # base case the server should accept); the value just past the bound is a boundary case's job.
+        start = math.ceil(start)
     if high is not None and start > high:
         raise Unbuildable
     return int(start) if integer else start

@@ -296,9 +296,31 @@ def _span(low: float | None, high: float | None) -> tuple[float, float]:
     return low, high
 
 
+#: Characters a server's own code often mishandles (common practice of fuzzers): quoting and escaping,
+#: regular expression and format syntax, path separators, white space and control characters, invisible
+#: and right-to-left marks, a combining accent, characters beyond U+FFFF.
+_ODD = "\"'\\`[](){}<>*+?|^$%&;:,./!@#~=-_ \t\n\r\x00\x1b\u200b\u202e\u0301\ufeff\U0001d11e"
+#: Whole strings that break naive code (common practice: a fuzzer's dictionary): taken when their length fits.
+_TRICKY = (
+    " ", "[", "(", "*", "\\", "'", '"', "%s", "{0}", "${x}", "{{x}}", "../", "..\\", "\n", "\x00", "null",
+    "NaN", "-1", "0", "true", "<b>", "' OR '1'='1", "a\u0301", "\u202eabc", "\U0001d11e",
+)
+
+
 def _text(rng: random.Random, low: int, high: int) -> str:
+    """A string of *low* to *high* code points: mostly letters and digits (what a schema's examples look
+    like), often printable ASCII with its punctuation, sometimes odd characters or a known tricky string."""
+    roll = rng.random()
+    if roll < 0.1:
+        tricky = [t for t in _TRICKY if low <= len(t) <= high]
+        if tricky:
+            return rng.choice(tricky)
     size = rng.randint(low, high)
-    if rng.random() < 0.2:
+    if roll < 0.25:
+        return "".join(rng.choice(_ODD + _ASCII + _WIDE) for _ in range(size))
+    if roll < 0.5:
+        return "".join(rng.choice(_PRINTABLE) for _ in range(size))
+    if roll < 0.6:
         return "".join(rng.choice(_ASCII + _WIDE + " ") for _ in range(size))
     return "".join(rng.choice(_ASCII) for _ in range(size))
 
