@@ -252,7 +252,7 @@ def no_leaks(ctx: CallContext) -> Iterator[Problem]:
 @register("output_schema", applies_to=("go",), reference="MCP 2025-06-18 server/tools (output schema); JSON Schema 2020-12; jsonschema")
 def output_schema(ctx: CallContext) -> Iterator[Problem]:
     """A tool with an outputSchema returns ``structuredContent`` that validates against it."""
-    from feeler.check.schemas import output_validator
+    from feeler.check.schemas import SlowPattern, output_validator, validation_errors
 
     ex = ctx.exchange
     tool = ctx.tool
@@ -266,7 +266,18 @@ def output_schema(ctx: CallContext) -> Iterator[Problem]:
     validator = output_validator(tool.output_schema)
     if validator is None:
         return
-    errors = sorted(validator.iter_errors(ex.result["structuredContent"]), key=lambda e: list(e.absolute_path))
+    try:
+        errors = validation_errors(validator, ex.result["structuredContent"])
+    except SlowPattern as exc:  # feeler.check.schemas: matching has a time budget, so this is a finding, not a hang
+        yield Problem(
+            f"matching the outputSchema's pattern {exc.pattern[:80]!r} against structuredContent took over "
+            f"{exc.budget:g}s (catastrophic backtracking); rewrite the pattern so a near miss fails fast",
+            error_class="slow-pattern",
+        )
+        return
+    except RecursionError:
+        yield Problem("structuredContent nests too deeply to be validated against the outputSchema", error_class="too-deep")
+        return
     if errors:
         first = errors[0]
         where = "$" + "".join(f"[{p}]" if isinstance(p, int) else f".{p}" for p in first.absolute_path)
