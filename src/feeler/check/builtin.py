@@ -68,7 +68,10 @@ def envelope(ctx: CallContext) -> Iterator[Problem]:
     """Every answer is a JSON-RPC 2.0 response: version, echoed id, exactly one of result/error, typed error."""
     ex = ctx.exchange
     msg = _response(ctx)
-    if ex is None or ex.response is None:
+    if ex is None:
+        return
+    if ex.response is None:  # an unreadable answer ended the exchange: only what the session saw is judged
+        yield from _stream_violations(ex)
         return
     if msg is None:
         if not isinstance(ex.response, list):
@@ -95,8 +98,14 @@ def envelope(ctx: CallContext) -> Iterator[Problem]:
             yield Problem(f"error.code {err.get('code')!r} is not an integer", error_class="error-code-type")
         if not isinstance(err.get("message"), str):
             yield Problem(f"error.message {err.get('message')!r} is not a string", error_class="error-message-type")
+    yield from _stream_violations(ex)
+
+
+def _stream_violations(ex: Any) -> Iterator[Problem]:
+    """What the session saw on the stream besides the answer: lines that are not JSON, not JSON-RPC or not
+    UTF-8 (MCP basic/transports "stdio": only UTF-8 MCP messages on stdout), and messages it cannot read."""
     for violation in ex.violations:
-        if violation.kind in ("not-json", "not-jsonrpc"):
+        if violation.kind in ("not-json", "not-jsonrpc", "not-utf8", "unreadable"):
             yield Problem(f"the server wrote {violation.message}: {violation.text[:80]!r}", error_class=violation.kind)
 
 
