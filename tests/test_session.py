@@ -89,6 +89,49 @@ def test_garbage_stdout_is_recorded_not_fatal(server_target: Callable[..., Targe
         assert any(f.text == v.text for v in ex.violations for f in ex.frames)
 
 
+UNREADABLE = [  # (answer line, what the one-line error says); each is valid JSON (RFC 8259) feeler cannot read
+    pytest.param(b'{"jsonrpc":"2.0","id":$ID,"result":' + b"[" * 2000 + b"]" * 2000 + b"}\n",
+                 "nests too deeply to be parsed", id="2000-levels"),
+    pytest.param(b'{"jsonrpc":"2.0","id":$ID,"error":{"code":-1,"message":"m","data":' + b"[" * 600 + b"]" * 600 + b"}}\n",
+                 "nests more than 512 levels deep", id="600-levels-in-an-error"),
+    pytest.param(b'{"jsonrpc":"2.0","id":$ID,"result":{"content":[],"n":' + b"9" * 5000 + b"}}\n",
+                 "holds a number feeler cannot convert", id="5000-digit-integer"),
+]
+
+
+@pytest.mark.parametrize(("line", "says"), UNREADABLE)
+def test_an_unreadable_answer_ends_the_call_at_once(server_target: Callable[..., Target], line: bytes, says: str) -> None:
+    """Not a traceback (RecursionError, Python's int digit limit) and not a wait for the timeout: the call
+    ends at once with the exchange kept for the envelope check, and the session goes on."""
+    import base64
+
+    target = server_target("says_what_it_is_told")
+    with connected(target, timeout=30) as session:
+        with pytest.raises(RemoteProtocolError) as caught:  # not RequestTimeout: no wait for the 30 s
+            session.call_tool("say", {"b64": base64.b64encode(line).decode()})
+        assert says in one_clear_line(caught.value, target)
+        assert [v.kind for v in caught.value.exchange.violations] == ["unreadable"]
+        assert session.call_tool("echo", {"text": "after"}).result["content"][0]["text"] == "after"
+
+
+def test_a_line_that_is_not_utf8_is_a_violation_and_the_answer_still_counts(server_target: Callable[..., Target]) -> None:
+    """MCP basic/transports "stdio": messages are UTF-8 (RFC 8259 section 8.1); feeler reads on with U+FFFD."""
+    with connected(server_target("invalid_utf8"), timeout=5) as session:
+        ex = session.call_tool("bad", {"text": "x"})
+        assert [v.kind for v in ex.violations] == ["not-utf8"] and "\ufffd" in ex.violations[0].text
+        assert isinstance(ex.result, dict)
+
+
+def test_a_banner_before_the_handshake_goes_with_the_first_call(server_target: Callable[..., Target]) -> None:
+    """MCP basic/transports "stdio": the server MUST NOT write anything to stdout that is not an MCP message;
+    no check looks at the handshake, so the first tools/call carries the violation (once)."""
+    with connected(server_target("banner_line"), timeout=5) as session:
+        first = session.call_tool("echo", {"text": "a"})
+        second = session.call_tool("echo", {"text": "b"})
+    assert [(v.kind, v.text) for v in first.violations] == [("not-json", "banner_line server 1.0 starting, press Ctrl-C to quit")]
+    assert "while connecting" in first.violations[0].message and second.violations == []
+
+
 @pytest.mark.parametrize("request_id, wrong", [(None, "1002"), ("call-a", "'call-a-other'")])
 def test_wrong_id_names_both_ids(server_target: Callable[..., Target], request_id: Any, wrong: str) -> None:
     target = server_target("wrong_id")

@@ -18,8 +18,12 @@ __all__ = ["SECONDS", "ConnectOptions", "Seconds", "apply_renamed", "connect_opt
 F = TypeVar("F", bound=Callable[..., Any])
 
 
+#: The longest wait an option accepts: a day (past about 4.4e7 s, select(2) timeouts overflow).
+MAX_SECONDS = 86_400.0
+
+
 class Seconds(click.ParamType):
-    """A finite number of seconds of at least 0.1 (``nan`` and ``inf`` are refused: a wait must end)."""
+    """A finite number of seconds from 0.1 to a day (``nan`` and ``inf`` are refused: a wait must end)."""
 
     name = "seconds"
 
@@ -30,6 +34,8 @@ class Seconds(click.ParamType):
             self.fail(f"{value!r} is not a number of seconds", param, ctx)
         if not math.isfinite(seconds) or seconds < 0.1:
             self.fail(f"{value!r} must be a finite number of seconds, at least 0.1", param, ctx)
+        if seconds > MAX_SECONDS:
+            self.fail(f"{value!r} is more than a day ({MAX_SECONDS:g} seconds); give at most {MAX_SECONDS:g}", param, ctx)
         return seconds
 
 

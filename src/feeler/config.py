@@ -197,6 +197,8 @@ def _check_inside(path: str, key: str, value: Any) -> None:
         raise UsageError(f"{where}={value!r} must be a finite number")
     if key == "timeout" and value <= 0:
         raise UsageError(f"{where}={value!r} must be a positive number of seconds")
+    if key == "timeout" and value > 86_400:  # as --timeout (cli_options.MAX_SECONDS): a wait ends within a day
+        raise UsageError(f"{where}={value!r} is more than a day; give at most 86400 seconds")
     if isinstance(value, list):
         bad = next((item for item in value if not isinstance(item, str)), None)
         if bad is not None:

@@ -52,6 +52,11 @@ LIST_METHODS = {
 }
 #: Cap on pages followed by :meth:`Session.list_all`, so a server that loops its cursor cannot hang us.
 MAX_PAGES = 1000
+#: Nesting of JSON containers in one message feeler will work with (common practice: real answers nest a
+#: handful of levels; a catalog with a 100-level schema, which the schema limits then report per tool, about
+#: 200). Below the parser's own limit (about the recursion limit, 1000, less the stack in use), so a deeper
+#: message gets the same clear finding wherever feeler runs.
+MAX_MESSAGE_DEPTH = 512
 
 
 @dataclass(frozen=True)
@@ -79,7 +84,8 @@ class Frame:
 class Violation:
     """Something the server sent that breaks the protocol but did not end the session.
 
-    :param kind: ``not-json``, ``not-jsonrpc``, ``unknown-id``, ``late-answer``, ``server-request``
+    :param kind: ``not-json``, ``not-jsonrpc``, ``not-utf8``, ``unreadable`` (JSON feeler cannot read: too
+        deep, an integer past Python's digit limit), ``unknown-id``, ``late-answer``, ``server-request``
         (a request where the revision forbids them), ``http-status``.
     """
 
@@ -154,6 +160,21 @@ class Exchange:
         return isinstance(self.result, dict) and self.result.get("resultType") == "input_required"
 
 
+def _too_deep(text: str, value: Any) -> bool:
+    """Does *value* (parsed from *text*) nest more than :data:`MAX_MESSAGE_DEPTH` containers? Iterative, and
+    skipped when the text has too few brackets to get there."""
+    if text.count("[") + text.count("{") <= MAX_MESSAGE_DEPTH:
+        return False
+    stack: list[tuple[Any, int]] = [(value, 1)] if isinstance(value, (dict, list)) else []
+    while stack:  # bounded: each container is visited once
+        node, depth = stack.pop()
+        if depth > MAX_MESSAGE_DEPTH:
+            return True
+        children = node.values() if isinstance(node, dict) else node
+        stack.extend((child, depth + 1) for child in children if isinstance(child, (dict, list)))
+    return False
+
+
 def same_id(a: Any, b: Any) -> bool:
     """JSON-RPC ids match only with the same type: ``"1"`` is not ``1`` (JSON-RPC 2.0 section 5)."""
     return type(a) is type(b) and a == b
@@ -220,6 +241,9 @@ class Session:
         self.log = log if log is not None else MessageLog()
         self._ids = itertools.count(1)
         self._abandoned: set[Any] = set()
+        #: violations seen while connecting (a banner line before the handshake answer): no check looks at
+        #: the handshake's exchanges, so they go with the next tools/call
+        self._early: list[Violation] = []
         self._param_headers: dict[str, dict[str, str]] = {}
         self.revision: str | None = None
         self.era: str | None = None
@@ -340,6 +364,9 @@ class Session:
         if sent_params is not None:
             message["params"] = sent_params
         ex = self._send(message, method=method, request_id=rid, revision=revision, timeout=timeout)
+        if self._early and method == "tools/call":
+            ex.violations.extend(self._early)
+            self._early = []
         self._await(ex, timeout if timeout is not None else self.request_timeout, mode="id")
         if ex.response is None and raise_on_http:
             raise RemoteProtocolError(
@@ -454,11 +481,21 @@ class Session:
         if inbound.text == "":
             # An HTTP answer with a status and no body: nothing more will come for this request.
             return True
+        if inbound.not_utf8:  # MCP basic/transports "stdio": UTF-8 only; the message is still read (U+FFFD)
+            bad = max(0, inbound.text.find("\ufffd") - 40)  # the excerpt shows the first bad byte
+            self._violate(ex, Violation("not-utf8", "a message that is not UTF-8 (bad bytes shown as U+FFFD)",
+                                        inbound.text[bad : bad + 500]))
         try:
             msg = json.loads(inbound.text)
-        except ValueError:
+        except json.JSONDecodeError:
             self._violate(ex, Violation("not-json", "a message that is not JSON", inbound.text[:500]))
             return False
+        except RecursionError:
+            self._unreadable(ex, inbound, "it nests too deeply to be parsed")
+        except ValueError as exc:  # valid JSON all the same: an integer past Python's digit limit (sys.int_info)
+            self._unreadable(ex, inbound, f"it holds a number feeler cannot convert ({str(exc).split(';')[0]})")
+        if _too_deep(inbound.text, msg):
+            self._unreadable(ex, inbound, f"it nests more than {MAX_MESSAGE_DEPTH} levels deep")
         if isinstance(msg, list):
             if mode == "any":
                 ex.response = msg
@@ -498,9 +535,23 @@ class Session:
         self._violate(ex, Violation("not-jsonrpc", "a JSON object that is neither request, notification nor answer", inbound.text[:500]))
         return False
 
+    def _unreadable(self, ex: Exchange, inbound: Inbound, why: str) -> None:
+        """End the exchange at once: a message feeler cannot read is most likely the answer it waits for (it
+        would otherwise wait out the timeout). The envelope check reports it; a late real answer is a
+        ``late-answer``."""
+        self._violate(ex, Violation("unreadable", f"a message feeler cannot read: {why}", inbound.text[:500]))
+        ex.finished = inbound.at
+        if ex.request_id is not None and not isinstance(ex.request_id, (list, dict)):
+            self._abandoned.add(ex.request_id)
+        error = RemoteProtocolError(f"{self._what(ex)}: the server sent a message feeler cannot read: {why}", target=self.target)
+        error.exchange = ex
+        raise error
+
     def _violate(self, ex: Exchange, violation: Violation) -> None:
         ex.violations.append(violation)
         self.log.violations.append(violation)
+        if not self.opened and violation.kind in ("not-json", "not-jsonrpc", "not-utf8"):
+            self._early.append(Violation(violation.kind, violation.message + " while connecting", violation.text))
 
     def _answer_server_request(self, ex: Exchange, msg: dict[str, Any]) -> None:
         ex.server_requests.append(msg)

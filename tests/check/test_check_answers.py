@@ -77,6 +77,34 @@ def test_output_schema_clean_sdk_server() -> None:
     assert not list(report.findings)
 
 
+@pytest.mark.parametrize(
+    ("schema", "check", "error_class", "says"),
+    [
+        # refused up front by the same shape check as input patterns (feeler.generate._ecma.check)
+        ("nested-repeat", "output_schema_valid", "output-slow-pattern", "nests an open-ended repeat"),
+        # passes the shape check; the regex engine's time budget ends the match (feeler.check.schemas)
+        ("ambiguous-repeat", "output_schema", "slow-pattern", "took over 2s"),
+        # feeler._limits.MAX_DEPTH, applied before the meta-schema check recurses into it
+        ("deep", "output_schema_valid", "output-over-limit", "nests more than 64 levels deep"),
+    ],
+)
+def test_a_hostile_output_schema_is_a_finding_not_a_hang(schema: str, check: str, error_class: str, says: str) -> None:
+    """JSON Schema 2020-12 validation 6.3.3 (pattern) and core 6.4 (ECMA-262); issue 13: limits and a time budget."""
+    report = run_checks(faulty("output-hostile", schema), ["output_schema", "output_schema_valid"], samples=0)
+    found = [f for f in report.findings if f.check == check]
+    assert [f.error_class for f in found] == [error_class], [(f.check, f.message) for f in report.findings]
+    assert says in found[0].message
+    if check == "output_schema_valid":  # no validator for a refused schema: no second finding per call
+        assert not [f for f in report.findings if f.check == "output_schema"]
+
+
+def test_output_patterns_are_read_the_ecma_way() -> None:
+    """ECMA-262 22.2.2.6: ``$`` matches only at the very end (Python's ``re`` also matches before a final
+    newline), as JSON Schema 2020-12 core 6.4 asks: ``SHOUT\\n`` breaks ``^[A-Z]+$``."""
+    report = run_checks(faulty("output-hostile", "dollar"), ["output_schema"], samples=0)
+    assert [sig(f) for f in report.findings] == [("output_schema", "shout", None, None, "invalid:pattern")]
+
+
 def test_output_mirrored_is_a_warning() -> None:
     report = run_checks(faulty("output-unmirrored"), ["output_schema", "output_mirrored"], samples=2)
     assert [(sig(f), f.severity) for f in report.findings] == [(("output_mirrored", "shout", None, None, "not-mirrored"), "warning")]

@@ -107,10 +107,25 @@ def test_session_fixture_for_hand_written_tests(pytester: pytest.Pytester) -> No
 
 
 def test_bad_config_is_a_usage_error(pytester: pytest.Pytester) -> None:
+    """pytest docs "Exit codes": 4 = command line usage error; one ERROR line, no INTERNALERROR."""
     pytester.makefile(".toml", pyproject="[tool.feeler]\ntargts = { demo = 'x' }\n")
     result = pytester.runpytest_subprocess("-p", "no:cacheprovider", "-q")
-    assert result.ret == pytest.ExitCode.USAGE_ERROR or result.ret == pytest.ExitCode.INTERNAL_ERROR
-    assert any("did you mean 'targets'" in line for line in result.errlines + result.outlines)
+    assert result.ret == pytest.ExitCode.USAGE_ERROR
+    errors = [line for line in result.errlines if line.startswith("ERROR:")]
+    assert len(errors) == 1 and "did you mean 'targets'" in errors[0], result.errlines
+    assert not any("INTERNALERROR" in line for line in result.errlines + result.outlines)
+
+
+def test_a_100_level_output_schema_fails_the_catalog_item_with_a_finding(pytester: pytest.Pytester) -> None:
+    """JSON Schema 2020-12 (any depth is valid) meets feeler's limit (feeler._limits, 64 levels): the
+    catalog item fails with the output_schema_valid finding, no item errors with a RecursionError."""
+    _project(pytester, f"{sys.executable} {ROOT / 'tests' / 'check' / 'servers' / 'faulty.py'} output-hostile deep")
+    result = pytester.runpytest_subprocess("-p", "no:cacheprovider", "-q", "-rfE", "-k", "catalog or go")
+    text = "\n".join(result.outlines + result.errlines)
+    assert "RecursionError" not in text and "INTERNALERROR" not in text, text[-3000:]
+    assert any(line.startswith("FAILED") and "catalog" in line for line in result.outlines), text[-3000:]
+    assert "[output_schema_valid]" in text and "nests more than 64 levels deep" in text, text[-3000:]
+    assert result.parseoutcomes().get("error", 0) == 0
 
 
 def test_catalog_item_fails_on_drift_and_approve_writes(pytester: pytest.Pytester, monkeypatch: pytest.MonkeyPatch) -> None:

@@ -21,8 +21,6 @@ from pathlib import Path
 import pytest
 from _procs import MARKER, kill_all, left_running, marked, server, start_feeler
 
-from feeler.cli import run
-
 pytestmark = pytest.mark.skipif(not os.path.isdir("/proc"), reason="needs /proc (Linux) to find leftovers")
 
 QUICK = ["check", "--timeout", "2", "--samples", "0", "--no-probes", "--replay-dir", "replays"]
@@ -33,102 +31,93 @@ class Fault:
     server: str
     codes: tuple[int, ...]
     shows: str  # a substring of stdout+stderr that names the fault
+    check: str | None = None  # when set, ``shows`` must be on a "FINDING [check]" line
     echo_tested: bool = True  # the healthy tool was still tested
     env: dict[str, str] = field(default_factory=dict)
     extra: tuple[str, ...] = ()
-    bound: float = 120.0
-    slow: bool = False
+    bound: float = 90.0  # seconds the whole feeler process may take; past it the case fails and is killed
 
 
 FAULTS = [
-    Fault("closes_stdout", (1,), "the server closed its stdout"),
+    Fault("closes_stdout", (1,), "the server closed its stdout", check="no_crash"),
     Fault("floods_stderr", (0,), "0 findings", env={"FEELER_FLOOD_MIB": "4"}),
-    Fault("answers_twice", (1,), "[server_alive]"),
-    Fault("invalid_utf8", (1,), "bad"),
-    Fault("sometimes_slow", (1,), "no answer within 2s", env={"FEELER_SLEEP_S": "3"}),
-    Fault("wrong_jsonrpc_version", (1,), "\"jsonrpc\" is '1.0', not \"2.0\""),
-    Fault("result_and_error", (1,), "bad"),
-    Fault("no_newline_then_hang", (1,), "no answer within 1s", extra=("--timeout", "1")),
-    Fault("banner_line", (0, 1), "echo"),
+    Fault("answers_twice", (1,), "which feeler never sent", check="server_alive"),
+    # MCP basic/transports "stdio": messages are UTF-8; the answer is still read, the run goes on
+    Fault("invalid_utf8", (1,), "a message that is not UTF-8 (bad bytes shown as U+FFFD): 'content\"", check="envelope"),
+    Fault("sometimes_slow", (1,), "no answer within 2s", check="no_crash", env={"FEELER_SLEEP_S": "3"}),
+    Fault("wrong_jsonrpc_version", (1,), "\"jsonrpc\" is '1.0', not \"2.0\"", check="envelope"),
+    Fault("result_and_error", (1,), "exactly one of result and error", check="envelope"),
+    Fault("no_newline_then_hang", (1,), "no answer within 1s", check="no_crash", extra=("--timeout", "1")),
+    # MCP basic/transports "stdio": the server MUST NOT write anything to stdout that is not an MCP message
+    Fault("banner_line", (1,), "a message that is not JSON while connecting: 'banner_line server 1.0 starting",
+          check="envelope"),
     Fault("cursor_loops", (2,), "tools/list: more than 1000 pages; giving up", echo_tested=False),
     Fault("string_tool_entry", (2,), "tools[0] in the list the server sent is not a JSON object ('lookup')",
           echo_tested=False),
-    Fault("huge_answer", (1,), "exceeded the size cap", env={"FEELER_HUGE_MIB": "50"}, echo_tested=False,
-          extra=("--max-message-bytes", "1048576"), slow=True),
+    Fault("huge_answer", (1,), "exceeded the size cap", check="no_crash", env={"FEELER_HUGE_MIB": "50"},
+          echo_tested=False, extra=("--max-message-bytes", "1048576")),
     Fault("ignores_sigterm", (0,), "0 findings", env={"FEELER_LINGER_S": "60"}),
-    Fault("oversized_schemas", (1,), "nests more than 64 levels deep", extra=("--max-message-bytes", "16777216")),
+    Fault("oversized_schemas", (1,), "nests more than 64 levels deep", check="schema_usable",
+          extra=("--max-message-bytes", "16777216")),
     Fault("many_tools", (0,), "echo_1999", echo_tested=False, extra=("--include", "echo_1999")),
 ]
 
 
-def _params() -> list[object]:
-    return [pytest.param(f, id=f.server, marks=[pytest.mark.slow] if f.slow else []) for f in FAULTS]
-
-
-def _check_in_process(argv: list[str], tag: str, env: dict[str, str], capsys: pytest.CaptureFixture[str],
-                      monkeypatch: pytest.MonkeyPatch, tmp_path: Path) -> tuple[int, str, str]:
-    """``feeler check`` in this process (jsonschema is imported once, so a case takes seconds); the
-    servers it starts inherit the case's marker."""
-    monkeypatch.chdir(tmp_path)
-    for name, value in {**env, MARKER: tag}.items():
-        monkeypatch.setenv(name, value)
-    code = run(argv)
-    captured = capsys.readouterr()
-    return code, captured.out, captured.err
-
-
-@pytest.mark.parametrize("fault", _params())
-def test_fault_is_reported_and_nothing_is_left(fault: Fault, tmp_path: Path, capsys: pytest.CaptureFixture[str],
-                                               monkeypatch: pytest.MonkeyPatch) -> None:
-    tag = uuid.uuid4().hex
+@pytest.mark.parametrize("fault", FAULTS, ids=[f.server for f in FAULTS])
+def test_fault_is_reported_and_nothing_is_left(fault: Fault, tmp_path: Path) -> None:
+    """A real ``feeler check`` process per case, bounded by ``fault.bound`` (past it the test fails and the
+    process group and every marked process are killed); then nothing of the case may still run."""
+    run = start_feeler(tmp_path, *QUICK, *fault.extra, "--", *server(fault.server), env=fault.env)
     try:
-        code, out, err = _check_in_process([*QUICK, *fault.extra, "--", *server(fault.server)], tag, fault.env,
-                                           capsys, monkeypatch, tmp_path)
+        code = run.wait(fault.bound)  # kills the group and fails the test past the bound
+        out, err = run.stdout(), run.stderr()
         text = out + err
         assert "Traceback" not in text, text[-3000:]
         assert code in fault.codes, text[-3000:]
         assert fault.shows in text, text[-3000:]
+        if fault.check is not None:
+            lines = [line for line in out.splitlines() if f"FINDING [{fault.check}]" in line and fault.shows in line]
+            assert lines, out[-3000:]
         if fault.echo_tested:
             assert re.search(r"^echo\b", out, re.M), out[-2000:]
         if code == 2:  # a clear error is one line on stderr
             assert len([line for line in err.splitlines() if line.startswith("feeler:")]) == 1, err
     finally:
-        left = left_running(tag)
+        left = left_running(run.tag)
         kill_all(left)
+        run.kill()
     assert left == {}, f"left running after {fault.server}: {left}"
 
 
-def test_escaped_grandchild_is_named_and_the_grouped_one_ended(tmp_path: Path, capsys: pytest.CaptureFixture[str],
-                                                               monkeypatch: pytest.MonkeyPatch) -> None:
+def test_escaped_grandchild_is_named_and_the_grouped_one_ended(tmp_path: Path) -> None:
     """A child in the server's process group goes with the group; one in its own session (setsid(2))
     survives it and is named in a warning with its pid."""
-    tag = uuid.uuid4().hex
+    run = start_feeler(tmp_path, *QUICK, "--", *server("forks_grandchild"), env={"FEELER_CHILD_S": "60"})
     try:
-        code, out, err = _check_in_process([*QUICK, "--", *server("forks_grandchild")], tag,
-                                           {"FEELER_CHILD_S": "60"}, capsys, monkeypatch, tmp_path)
+        code = run.wait(90)  # bounded: kills the group and fails past it
+        err = run.stderr()
         assert "Traceback" not in err and code == 0, err[-2000:]
         named = re.findall(r"feeler: warning: .*outside its process group.*?pid (\d+)", err)
         assert named, err[-2000:]
         deadline = time.monotonic() + 5.0  # bounded: a killed child may take a moment to leave /proc
-        alive = marked(tag)
+        alive = marked(run.tag)
         while set(alive) != {int(named[0])} and time.monotonic() < deadline:
             time.sleep(0.1)
-            alive = marked(tag)
+            alive = marked(run.tag)
         assert set(alive) == {int(named[0])}, alive  # only the escaped one: the grouped child was ended
     finally:
-        kill_all(marked(tag))
-    assert left_running(tag) == {}
+        kill_all(marked(run.tag))
+        run.kill()
+    assert left_running(run.tag) == {}
 
 
-SLOW = pytest.mark.slow
 STOPS = [  # (server, signal, exit code, message); each starts a real feeler process (seconds of imports)
     pytest.param("hangs_on_call", signal.SIGTERM, 128 + signal.SIGTERM, "stopped by SIGTERM", id="hangs-SIGTERM"),
     pytest.param("ignores_sigterm", signal.SIGHUP, 128 + signal.SIGHUP, "stopped by SIGHUP", id="ignores-SIGHUP"),
-    pytest.param("hangs_on_call", signal.SIGHUP, 128 + signal.SIGHUP, "stopped by SIGHUP", id="hangs-SIGHUP", marks=SLOW),
-    pytest.param("hangs_on_call", signal.SIGINT, 130, "interrupted", id="hangs-SIGINT", marks=SLOW),
-    pytest.param("ignores_sigterm", signal.SIGTERM, 128 + signal.SIGTERM, "stopped by SIGTERM", id="ignores-SIGTERM",
-                 marks=SLOW),
-    pytest.param("ignores_sigterm", signal.SIGINT, 130, "interrupted", id="ignores-SIGINT", marks=SLOW),
+    pytest.param("hangs_on_call", signal.SIGHUP, 128 + signal.SIGHUP, "stopped by SIGHUP", id="hangs-SIGHUP"),
+    pytest.param("hangs_on_call", signal.SIGINT, 130, "interrupted", id="hangs-SIGINT"),
+    pytest.param("ignores_sigterm", signal.SIGTERM, 128 + signal.SIGTERM, "stopped by SIGTERM", id="ignores-SIGTERM"),
+    pytest.param("ignores_sigterm", signal.SIGINT, 130, "interrupted", id="ignores-SIGINT"),
 ]
 
 

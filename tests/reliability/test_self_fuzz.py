@@ -96,8 +96,24 @@ def _catalog_like(value: Any) -> Any:
     return {**base, **value} if isinstance(value, dict) else value
 
 
+def _nest(levels: int, opener: str, leaf: str = "1") -> str:
+    """JSON text nested *levels* deep, written as text (``json.dumps`` itself would recurse)."""
+    closer = {"[": "]", '{"a":': "}"}[opener]
+    return opener * levels + leaf + closer * levels
+
+
+#: Deep nesting (RFC 8259 section 9 lets a parser limit depth): past feeler's limits and Python's recursion.
+deep_texts = st.builds(_nest, st.integers(1, 3000), st.sampled_from(["[", '{"a":']))
+#: A catalog whose tool holds a deep inputSchema or outputSchema (feeler._limits, MAX_DEPTH 64).
+deep_catalogs = st.builds(
+    lambda levels, key: '{"format":"feeler-catalog/2","protocolVersion":"2025-11-25","era":"handshake","tools":[{"name":"t","'
+    + key + '":' + '{"type":"object","properties":{"a":' * levels + '{"type":"string"}' + "}}" * levels + "}]}",
+    st.integers(1, 600), st.sampled_from(["inputSchema", "outputSchema"]))
+
 json_files = st.one_of(
     st.binary(max_size=300),
+    deep_texts.map(str.encode),
+    deep_catalogs.map(str.encode),
     json_values.map(lambda v: json.dumps(v).encode()),
     st.dictionaries(st.sampled_from(["tools", "prompts", "resources", "server", "capabilities", "baseline",
                                      "supportedRevisions", "supportedVersions", "protocolVersion", "format"]),
@@ -160,6 +176,61 @@ def test_replay_file_garbage_is_a_clear_error(depth: int, tmp_path: Path) -> Non
     _fuzz_files(depth, [path], replays, lambda: load_replay(str(path)))
 
 
+# -- report files (feeler report render / merge) ----------------------------------------------------------
+
+REPORT_KEYS = ["format", "feelerVersion", "command", "target", "server", "protocolVersion", "era", "startedAt",
+               "finishedAt", "durationSeconds", "shard", "parts", "campaign", "totals", "tools", "findings"]
+FINDING = {"check": "no_crash", "severity": "error", "tool": "t", "kind": "go", "message": "m", "count": 1, "signature": "s"}
+
+
+def _valid_report() -> dict[str, Any]:
+    from feeler.check.runner import RunReport
+    from feeler.report.document import build_report, validate_report
+    from feeler.target import Target
+
+    doc = build_report(RunReport(target=Target(kind="stdio", command=("server",))))
+    doc["findings"] = [dict(FINDING)]
+    assert validate_report(doc) == []  # the base is a real, valid report document
+    return doc
+
+
+def _report_variant(changes: dict[str, Any], drop: list[str], finding: dict[str, Any]) -> bytes:
+    doc = _valid_report()
+    doc.update(changes)
+    for key in drop:
+        doc.pop(key, None)
+    if isinstance(doc.get("findings"), list):
+        doc["findings"].append({**FINDING, **finding})
+    return json.dumps(doc).encode()
+
+
+report_files = st.one_of(
+    json_files,
+    st.builds(_report_variant, st.dictionaries(st.sampled_from(REPORT_KEYS), json_values, max_size=3),
+              st.lists(st.sampled_from(REPORT_KEYS), max_size=2),
+              st.dictionaries(st.sampled_from([*FINDING, "arguments", "replay", "keywordLocation"]), json_values, max_size=3)),
+    st.builds(lambda levels: json.dumps({**_valid_report(), "findings": [{**FINDING, "arguments": "$DEEP"}]})
+              .replace('"$DEEP"', _nest(levels, "[")).encode(), st.integers(1, 3000)),
+)
+
+
+@pytest.mark.parametrize("depth", DEPTHS)
+def test_report_file_garbage_is_a_clear_error(depth: int, tmp_path: Path) -> None:
+    """What ``feeler report render`` and ``report merge`` read: every format renders a document that loads."""
+    from feeler.report import load_report, merge_reports, render
+    from feeler.report.cli import _FORMAT_NAMES
+
+    path = tmp_path / "feeler-report.json"
+
+    def report() -> None:
+        doc = load_report(str(path))
+        for fmt in _FORMAT_NAMES:
+            render(doc, fmt)
+        render(merge_reports([doc, load_report(str(path))]), "markdown")
+
+    _fuzz_files(depth, [path], report_files, report)
+
+
 # -- server answers -------------------------------------------------------------------------------------
 
 envelopes = st.fixed_dictionaries(
@@ -169,6 +240,11 @@ envelopes = st.fixed_dictionaries(
 )
 answers = st.one_of(
     st.binary(max_size=200).map(lambda b: b.replace(b"\n", b" ") + b"\n"),
+    # deep results and error data, and integers past Python's digit limit: valid JSON feeler cannot read
+    st.builds(lambda levels, key: ('{"jsonrpc":"2.0","id":$ID,"' + key + '":' + _nest(levels, "[") + "}\n").encode(),
+              st.integers(1, 3000), st.sampled_from(["result", "error"])),
+    st.integers(1, 6000).map(lambda digits: ('{"jsonrpc":"2.0","id":$ID,"result":{"content":[],"n":' + "9" * digits
+                                             + "}}\n").encode()),
     envelopes.map(lambda e: json.dumps(e).replace('"$ID"', "$ID").encode() + b"\n"),
     json_values.map(lambda v: json.dumps(v).encode() + b"\n"),
 )

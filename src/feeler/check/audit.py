@@ -97,9 +97,11 @@ def schema_keywords(ctx: CallContext) -> Iterator[Problem]:
 
 @register("output_schema_valid", applies_to=("catalog",), reference="MCP 2025-06-18 server/tools (outputSchema: an object schema); JSON Schema 2020-12 meta-schema; jsonschema")
 def output_schema_valid(ctx: CallContext) -> Iterator[Problem]:
-    """The outputSchema is valid for its dialect (checked against the meta-schema) and rooted at an object."""
+    """The outputSchema is valid for its dialect (checked against the meta-schema), rooted at an object, within
+    feeler's limits (depth, size, enum) and free of patterns that are not ECMA-262 or take exponential time."""
     from jsonschema.validators import validator_for
 
+    from feeler.check.schemas import output_schema_problem
     from feeler.generate._schema import pointer
 
     tool = ctx.tool
@@ -110,6 +112,12 @@ def output_schema_valid(ctx: CallContext) -> Iterator[Problem]:
         yield Problem('the outputSchema must have "type": "object" at its root (structuredContent is an object)', error_class="output-root-type")
     if not isinstance(schema, dict):
         return
+    problem = output_schema_problem(schema)  # before the meta-schema: a deep schema would overflow its recursion
+    if problem is not None:
+        message, reason = problem
+        yield Problem(f"feeler will not validate answers against the outputSchema: {message}", error_class=f"output-{reason}")
+        if reason == "over-limit":
+            return
     cls = validator_for(schema, default=validator_for({}))
     errors = sorted(cls(cls.META_SCHEMA).iter_errors(schema), key=lambda e: list(e.absolute_path))
     if errors:

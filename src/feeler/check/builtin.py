@@ -69,7 +69,10 @@ def envelope(ctx: CallContext) -> Iterator[Problem]:
     """Every answer is a JSON-RPC 2.0 response: version, echoed id, exactly one of result/error, typed error."""
     ex = ctx.exchange
     msg = _response(ctx)
-    if ex is None or ex.response is None:
+    if ex is None:
+        return
+    if ex.response is None:  # an unreadable answer ended the exchange: only what the session saw is judged
+        yield from _stream_violations(ex)
         return
     if msg is None:
         if not isinstance(ex.response, list):
@@ -96,8 +99,14 @@ def envelope(ctx: CallContext) -> Iterator[Problem]:
             yield Problem(f"error.code {err.get('code')!r} is not an integer", error_class="error-code-type")
         if not isinstance(err.get("message"), str):
             yield Problem(f"error.message {err.get('message')!r} is not a string", error_class="error-message-type")
+    yield from _stream_violations(ex)
+
+
+def _stream_violations(ex: Any) -> Iterator[Problem]:
+    """What the session saw on the stream besides the answer: lines that are not JSON, not JSON-RPC or not
+    UTF-8 (MCP basic/transports "stdio": only UTF-8 MCP messages on stdout), and messages it cannot read."""
     for violation in ex.violations:
-        if violation.kind in ("not-json", "not-jsonrpc"):
+        if violation.kind in ("not-json", "not-jsonrpc", "not-utf8", "unreadable"):
             yield Problem(f"the server wrote {violation.message}: {violation.text[:80]!r}", error_class=violation.kind)
 
 
@@ -277,7 +286,7 @@ def no_leaks(ctx: CallContext) -> Iterator[Problem]:
 @register("output_schema", applies_to=("go",), reference="MCP 2025-06-18 server/tools (output schema); JSON Schema 2020-12; jsonschema")
 def output_schema(ctx: CallContext) -> Iterator[Problem]:
     """A tool with an outputSchema returns ``structuredContent`` that validates against it."""
-    from feeler.check.schemas import output_validator
+    from feeler.check.schemas import SlowPattern, output_validator, validation_errors
 
     ex = ctx.exchange
     tool = ctx.tool
@@ -291,7 +300,18 @@ def output_schema(ctx: CallContext) -> Iterator[Problem]:
     validator = output_validator(tool.output_schema)
     if validator is None:
         return
-    errors = sorted(validator.iter_errors(ex.result["structuredContent"]), key=lambda e: list(e.absolute_path))
+    try:
+        errors = validation_errors(validator, ex.result["structuredContent"])
+    except SlowPattern as exc:  # feeler.check.schemas: matching has a time budget, so this is a finding, not a hang
+        yield Problem(
+            f"matching the outputSchema's pattern {exc.pattern[:80]!r} against structuredContent took over "
+            f"{exc.budget:g}s (catastrophic backtracking); rewrite the pattern so a near miss fails fast",
+            error_class="slow-pattern",
+        )
+        return
+    except RecursionError:
+        yield Problem("structuredContent nests too deeply to be validated against the outputSchema", error_class="too-deep")
+        return
     if errors:
         first = errors[0]
         from feeler._json import json_pointer

@@ -68,9 +68,29 @@ def load_replay(path: str) -> dict[str, Any]:
         if not isinstance(data.get(key), kind):
             raise UsageError(f"{path}: the replay file has no {key!r} {'object' if kind is dict else 'string'}; "
                              "write it again with `feeler check`")
+    _check_target(path, data["target"])
     if data["format"] in OLD_REPLAY_FORMATS:
         data = _from_old_replay(data)
     return data
+
+
+#: The target keys a replay file records (``Target.to_json``) and the JSON type each must have.
+_TARGET_KEYS: dict[str, tuple[type, str]] = {
+    "kind": (str, "a string"), "command": (list, "a list of strings"), "url": (str, "a string"),
+    "module": (str, "a string"), "cwd": (str, "a string"), "envNames": (list, "a list of strings"),
+    "headerNames": (list, "a list of strings"), "bearerEnv": (str, "a string"),
+}  # fmt: skip
+
+
+def _check_target(path: str, target: dict[str, Any]) -> None:
+    """Refuse a recorded target with a wrong type in it (a string command would be run letter by letter)."""
+    for key, (kind, what) in _TARGET_KEYS.items():
+        value = target.get(key)
+        if value is None:
+            continue
+        if not isinstance(value, kind) or (kind is list and not all(isinstance(v, str) for v in value)):
+            raise UsageError(f"{path}: the replay file's target.{key} must be {what}, got {type(value).__name__} "
+                             f"{str(value)[:60]!r}; write it again with `feeler check`")
 
 
 def _from_old_replay(data: dict[str, Any]) -> dict[str, Any]:

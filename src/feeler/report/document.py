@@ -161,4 +161,13 @@ def load_report(path: str) -> dict[str, Any]:
     doc = read_json(path, what="the report", expect=None, fix="give a report file written by feeler")
     if not isinstance(doc, dict) or doc.get("format") != REPORT_FORMAT:
         raise UsageError(f"{path}: not a feeler report (expected format {REPORT_FORMAT!r}); write one with --report-dir")
+    try:  # the shipped schema (report/schema/report.schema.json): renderers and merge rely on its shape
+        problems = validate_report(doc)
+    except RecursionError:
+        problems = ["(root): nested too deeply"]
+    if problems:
+        first = " ".join(problems[0].split())[:200]
+        more = f" (and {len(problems) - 1} more)" if len(problems) > 1 else ""
+        raise UsageError(f"{path}: not a valid feeler report: {first}{more}; give a report file written by feeler "
+                         "(--report-dir), unedited")
     return doc

@@ -31,12 +31,14 @@ class Inbound:
     :param at: ``time.monotonic()`` when it was read.
     :param http_status: the HTTP status of the answer that carried it (None on stdio and in-process).
     :param headers: selected HTTP answer headers (lower-case names), e.g. ``content-type``.
+    :param not_utf8: the bytes were not UTF-8 (``text`` has U+FFFD in place of each bad byte).
     """
 
     text: str
     at: float = field(default_factory=time.monotonic)
     http_status: int | None = None
     headers: Mapping[str, str] = field(default_factory=dict)
+    not_utf8: bool = False
 
 
 class Transport(ABC):

@@ -222,9 +222,9 @@ class StdioTransport(Transport):
         assert proc.stdout is not None and self._selector is not None
         fd = proc.stdout.fileno()
         while True:
-            line = self._take_line()
-            if line is not None:
-                return Inbound(line)
+            taken = self._take_line()
+            if taken is not None:
+                return Inbound(taken[0], not_utf8=taken[1])
             if self._eof:
                 raise self._exited("the server closed its stdout")
             remaining = deadline - time.monotonic()
@@ -238,8 +238,9 @@ class StdioTransport(Transport):
                 continue
             self._buf += chunk
 
-    def _take_line(self) -> str | None:
-        """Cut one complete line from the buffer; enforce the size cap. None when no line is complete."""
+    def _take_line(self) -> tuple[str, bool] | None:
+        """Cut one complete line from the buffer; enforce the size cap. None when no line is complete, else
+        the text and whether its bytes were not UTF-8 (then decoded with U+FFFD for each bad byte)."""
         while True:
             newline = self._buf.find(b"\n", self._scan_from)
             if newline < 0:
@@ -262,9 +263,12 @@ class StdioTransport(Transport):
                 continue
             if len(raw) > self.max_message_bytes:
                 raise self._too_large()
-            text = raw.decode("utf-8", errors="replace").rstrip("\r")
+            try:  # MCP basic/transports "stdio": messages are UTF-8; the session reports a line that is not
+                text, not_utf8 = raw.decode("utf-8").rstrip("\r"), False
+            except UnicodeDecodeError:
+                text, not_utf8 = raw.decode("utf-8", errors="replace").rstrip("\r"), True
             if text.strip():
-                return text
+                return text, not_utf8
 
     def _too_large(self) -> ResponseTooLarge:
         return ResponseTooLarge(

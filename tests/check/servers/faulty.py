@@ -292,6 +292,43 @@ def _structured(mode: str) -> type[Structured]:
     return type(f"Structured_{mode}", (Structured,), {"mode": mode})
 
 
+def _nested_output(levels: int) -> dict[str, Any]:
+    schema: dict[str, Any] = {"type": "string"}
+    for _ in range(levels):
+        schema = {"type": "object", "properties": {"a": schema}}
+    return schema
+
+
+#: argv[2] of fault ``output-hostile``: the outputSchema of ``shout`` (answers stay as in output-ok).
+HOSTILE_OUTPUTS: dict[str, dict[str, Any]] = {
+    # a nested open-ended repeat: exponential on a near miss in a backtracking engine
+    "nested-repeat": {"type": "object", "properties": {"upper": {"type": "string", "pattern": "^(.+)+$"}}},
+    # an ambiguous alternation under a repeat: not a nested repeat, still exponential on a near miss
+    "ambiguous-repeat": {"type": "object", "properties": {"upper": {"type": "string", "pattern": "^(A|A)*$"}}},
+    # ECMA-262 reading: "$" is the very end (Python's re would also match before a final newline)
+    "dollar": {"type": "object", "properties": {"upper": {"type": "string", "pattern": "^[A-Z]+$"}}},
+    # 100 levels of nesting: past feeler._limits.MAX_DEPTH
+    "deep": _nested_output(100),
+}
+
+
+class HostileOutput(Structured):
+    """``shout`` declares the outputSchema named by argv[2] (:data:`HOSTILE_OUTPUTS`); its ``upper`` is 40
+    letters and one near miss: ``A`` * 40 + ``!`` for the patterns, ``SHOUT`` and a newline for ``dollar``."""
+
+    def __init__(self) -> None:
+        super().__init__()
+        self.tools = [{**SHOUT_TOOL, "outputSchema": HOSTILE_OUTPUTS[sys.argv[2]]}]
+
+    def on_tools_call(self, params: dict[str, Any], request_id: Any) -> dict[str, Any]:
+        answer = super().on_tools_call(params, request_id)
+        if "structuredContent" in answer:
+            near_miss = "A" * 40 + "!" if sys.argv[2] != "dollar" else "SHOUT\n"
+            answer["structuredContent"]["upper"] = near_miss
+            answer["content"][0]["text"] = json.dumps(answer["structuredContent"])
+        return answer
+
+
 # -- liveness and latency ---------------------------------------------------------------------
 
 
@@ -444,6 +481,7 @@ FAULTS: dict[str, type[WireServer]] = {
     "output-missing": _structured("missing"),
     "output-invalid": _structured("invalid"),
     "output-unmirrored": _structured("unmirrored"),
+    "output-hostile": HostileOutput,
     "ping-dies": PingDiesAfterCall,
     "ping-error": PingError,
     "slow": Slow,
