@@ -11,11 +11,19 @@ bounded shutdown of the servers is not cut short.
 
 Bookkeeping that must not be cut in half (a call counted but not yet written to the call log) runs
 inside :func:`held`: a stop signal arriving there is kept and raised when the block ends.
+
+A handler's exception that lands where Python cannot raise it (a garbage-collector callback, a
+``__del__``: Python prints "Exception ignored in ..." and goes on) would be lost, and with the later
+signals ignored the run would go on to its end. :func:`install` therefore also wraps
+``sys.unraisablehook``: a swallowed :class:`Stopped` re-arms its handler and sends the signal again
+shortly, so the stop is delivered where it can unwind.
 """
 
 from __future__ import annotations
 
+import os
 import signal
+import sys
 import threading
 from collections.abc import Iterator
 from contextlib import contextmanager
@@ -78,14 +86,37 @@ def held() -> Iterator[None]:
             raise Stopped(signum)
 
 
+#: how long after a swallowed stop the signal is sent again (the swallowing callback has returned by then)
+REDELIVER_AFTER = 0.05
+
+
+def _unraisable(unraisable: Any) -> None:
+    """``sys.unraisablehook``: a :class:`Stopped` Python had to swallow is delivered again; the rest goes to
+    the hook that was there before."""
+    exc = unraisable.exc_value
+    if isinstance(exc, Stopped):
+        signal.signal(exc.signum, _handler)  # re-armed for this one signal; the others stay ignored
+        timer = threading.Timer(REDELIVER_AFTER, os.kill, (os.getpid(), exc.signum))
+        timer.daemon = True
+        timer.start()
+        return
+    _previous_hook(unraisable)
+
+
+_previous_hook: Any = sys.unraisablehook
+
+
 def install() -> list[int]:
     """Install the handler for SIGINT, SIGTERM and SIGHUP where Python's default is still set (for
     SIGINT: ``signal.default_int_handler``).
 
     Returns the signals it took over (none outside the main thread, where Python allows no handlers).
     """
+    global _previous_hook
     if threading.current_thread() is not threading.main_thread():
         return []
+    if sys.unraisablehook is not _unraisable:
+        _previous_hook, sys.unraisablehook = sys.unraisablehook, _unraisable
     taken = []
     for sig in _SIGNALS:
         if signal.getsignal(sig) in (signal.SIG_DFL, None, signal.default_int_handler) or signal.getsignal(sig) is _handler:

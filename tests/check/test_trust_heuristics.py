@@ -96,3 +96,11 @@ def test_sdk_crash_is_no_crash_without_strict_and_failure_as_success_warns() -> 
     hidden = by[("failure_as_success", "tide_log")]
     assert hidden.severity == "warning" and "no such table" in hidden.message
     assert ("no_crash", "tide_log") not in by and ("failure_as_success", "find_berths") not in by
+
+
+def test_a_sent_value_holding_nul_is_compared_without_touching_the_file_system() -> None:
+    """A string argument may hold U+0000 (JSON allows it, RFC 8259 section 7); no file name can, so it is
+    never resolved on disk (os.path.realpath raises on it): found by feeler's own tricky strings."""
+    text = "cannot open /srv/harbour/app/berths.py: no such file"
+    assert leaked_path(text, (), {"path": "/srv/harbour\x00/x"}) == "/srv/harbour/app/berths.py"
+    assert leaked_path(text, (), {"path": "/srv/harbour/app/berths.py"}) is None

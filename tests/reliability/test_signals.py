@@ -76,3 +76,46 @@ def test_ctrl_c_is_held_too(installed: None) -> None:
             steps.append("counted")
     assert steps == ["counted"]
     assert isinstance(caught.value, _signals.Stopped) and caught.value.exit_code == 130
+
+
+SWALLOWED = """
+import gc, os, signal, sys, time
+from feeler import _signals
+
+_signals.install()
+fired = []
+
+
+def callback(phase, info):
+    # The stop arrives while the garbage collector runs this callback: an exception raised here is
+    # "Exception ignored" (Python docs, gc.callbacks and sys.unraisablehook).
+    if phase == "start" and not fired:
+        fired.append(1)
+        os.kill(os.getpid(), signal.SIGTERM)
+        total = 0
+        for i in range(100000):  # the handler runs between these bytecodes, inside the callback
+            total += i
+
+
+gc.callbacks.append(callback)
+try:
+    gc.collect()
+    for _ in range(100):  # bounded: 5 s at most
+        time.sleep(0.05)
+    print("went on")
+    sys.exit(0)
+except _signals.Stopped as exc:
+    print("stopped", exc)
+    sys.exit(exc.exit_code)
+"""
+
+
+def test_a_stop_swallowed_in_a_gc_callback_is_delivered_again() -> None:
+    """A stop raised inside a garbage-collector callback is swallowed by Python; feeler's unraisable hook
+    sends the signal again, so the run still ends with 128 + SIGTERM (and is not lost)."""
+    import subprocess
+    import sys
+
+    proc = subprocess.run([sys.executable, "-c", SWALLOWED], capture_output=True, text=True, timeout=60)
+    assert proc.returncode == 128 + signal.SIGTERM, (proc.stdout, proc.stderr)
+    assert proc.stdout.strip() == "stopped SIGTERM" and "Exception ignored" not in proc.stderr

@@ -208,9 +208,11 @@ def _cases(campaign: Campaign, tool: Any, round_no: int) -> None:
     stats = runner.stats(tool)
     if stats.skipped or stats.schema_problem or runner.skip_reason(tool) or stats.timeouts >= runner.options.max_timeouts_per_tool:
         return
-    runner.options.samples = campaign.samples_for(round_no)
+    # A resumed step makes the same cases as before the interruption (the count depends on the time left,
+    # which has changed), then skips those already sent.
+    runner.options.samples = campaign.resume_samples or campaign.samples_for(round_no)
     runner.options.sample_seed = campaign.options.seed + round_no
-    runner.drawn_skip, campaign.resume_skip = campaign.resume_skip, 0
+    runner.drawn_skip, campaign.resume_skip, campaign.resume_samples = campaign.resume_skip, 0, 0
     runner._drawn_go(tool, stats)
 
 
@@ -262,6 +264,8 @@ class Campaign:
         self.tool_names: list[str] = []
         #: sampled go cases of the current step made before the interruption (skipped when it resumes)
         self.resume_skip = 0
+        #: the interrupted step's sampled-case count (its cases are remade the same, then skipped up to resume_skip)
+        self.resume_samples = 0
         #: seconds per rotation step in the current round, and chain runs per second of the last chain phase
         self.round_seconds: dict[str, float] = {}
         self.chain_rate = 0.0
@@ -293,6 +297,7 @@ class Campaign:
         self.started_at = state["startedAt"]
         self.tool_names = state["tools"]
         self.resume_skip = state.get("stepSampled", 0) if self.round > 0 else 0
+        self.resume_samples = state.get("stepSamples", 0) if self.resume_skip else 0
         self.runner.report.restarts = state.get("restarts", 0)
         names = {f.name for f in dataclasses.fields(Finding)}
         for data in state["findings"]:
@@ -320,6 +325,7 @@ class Campaign:
             "round": self.round,
             "position": self.position,
             "stepSampled": runner.drawn_done if self.round > 0 else 0,
+            "stepSamples": runner.options.samples if self.round > 0 else 0,
             "used": round(self.elapsed(), 3),
             "calls": self.calls,
             "resumed": self.resumed,

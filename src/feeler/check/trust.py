@@ -159,7 +159,9 @@ def given_path(path: str, given: tuple[str, ...], arguments: Any = None, after: 
     shown = (path + after, norm + after)
     for value in _strings(arguments):
         if os.path.isabs(value):
-            resolved = {os.path.normpath(value), os.path.realpath(value)}
+            resolved = {os.path.normpath(value)}
+            if "\x00" not in value:  # no file name holds NUL (realpath would raise): nothing to resolve
+                resolved.add(os.path.realpath(value))
         else:
             resolved = {os.path.normpath(os.path.join(root, value)) for root in roots}
         if any(_related(norm, r) for r in resolved) or any(_follows(text, value) for text in shown):
