@@ -17,7 +17,7 @@ from feeler.check.registry import CheckSettings
 # -- go_enters (MCP 2025-11-25 server/tools error handling; JSON-RPC 2.0 section 5.1) ------------
 
 
-def test_go_accepted_clean_server() -> None:
+def test_go_enters_clean_server() -> None:
     report = run_checks(faulty("clean"), ["go_enters"], settings=CheckSettings(strict_go=True))
     stats = report.tools["echo"]
     assert stats.go_calls > 0 and stats.go_entered == stats.go_calls
@@ -31,14 +31,14 @@ def test_go_accepted_clean_server() -> None:
         ("go-internal", "internal-error"),  # -32603 on schema-valid arguments (JSON-RPC 2.0 section 5.1)
     ],
 )
-def test_go_accepted_finds_refused_valid_arguments(fault: str, error_class: str) -> None:
+def test_go_enters_finds_refused_valid_arguments(fault: str, error_class: str) -> None:
     report = run_checks(faulty(fault), ["go_enters"], samples=1)
     assert classes(report, "go_enters") == {error_class}
     # go cases: keyword and path stay out of the signature, so one defect is one finding.
     assert [sig(f) for f in report.findings] == [("go_enters", "echo", None, None, error_class)]
 
 
-def test_go_accepted_counts_is_error_and_flags_it_only_when_strict() -> None:
+def test_go_enters_counts_is_error_and_flags_it_only_when_strict() -> None:
     lenient = run_checks(faulty("always-is-error"), ["go_enters"], samples=1)
     assert lenient.tools["echo"].go_is_error == lenient.tools["echo"].go_calls > 0
     assert not list(lenient.findings)
@@ -49,13 +49,13 @@ def test_go_accepted_counts_is_error_and_flags_it_only_when_strict() -> None:
 # -- gate_opens (common practice: a tool that refuses every valid input is broken) ------------
 
 
-def test_accepts_some_go_finds_a_tool_that_refuses_everything() -> None:
+def test_gate_opens_finds_a_tool_that_refuses_everything() -> None:
     report = run_checks(faulty("always-is-error"), ["gate_opens"], samples=1)
     assert [sig(f) for f in report.findings] == [("gate_opens", "echo", None, None, "rejects-all")]
     assert report.findings.errors()[0].kind == "tool"
 
 
-def test_accepts_some_go_clean_server() -> None:
+def test_gate_opens_clean_server() -> None:
     report = run_checks(faulty("clean"), ["gate_opens"], samples=1)
     assert report.tools["echo"].go_entered > 0
     assert not list(report.findings)
@@ -81,7 +81,7 @@ def test_bounds_honoured_clean_server() -> None:
 
 
 @pytest.mark.parametrize("fault", ["clean", "nogo-protocol"])
-def test_nogo_rejected_clean_servers(fault: str) -> None:
+def test_nogo_stops_clean_servers(fault: str) -> None:
     # isError (2025-11-25 style) and -32602 (earlier style) are both clean rejections (PROTOCOL.md 5.4).
     report = run_checks(faulty(fault), ["nogo_stops"], samples=0)
     stats = report.tools["echo"]
@@ -91,7 +91,7 @@ def test_nogo_rejected_clean_servers(fault: str) -> None:
     assert ("-32602 protocol errors" in style) == (fault == "nogo-protocol")
 
 
-def test_nogo_rejected_names_each_unenforced_keyword() -> None:
+def test_nogo_stops_names_each_unenforced_keyword() -> None:
     report = run_checks(faulty("accepts-anything"), ["nogo_stops"], samples=0)
     # The echo schema: {"text": string, maxLength 1000}, required, additionalProperties false.
     assert {sig(f) for f in report.findings} == {
@@ -110,7 +110,7 @@ def test_nogo_rejected_names_each_unenforced_keyword() -> None:
         ("nogo-wrong-code", "wrong-code"),  # -32000 is neither -32602 nor isError
     ],
 )
-def test_nogo_rejected_finds_unclean_rejections(fault: str, error_class: str) -> None:
+def test_nogo_stops_finds_unclean_rejections(fault: str, error_class: str) -> None:
     report = run_checks(faulty(fault), ["nogo_stops"], samples=0)
     assert classes(report, "nogo_stops") == {error_class}
     assert all(f.kind == "no-go" and f.keyword for f in report.findings)

@@ -130,3 +130,30 @@ def test_diff_reads_allowed_hosts_from_the_config(tmp_path: Path, monkeypatch: p
     (tmp_path / "pyproject.toml").write_text('[tool.feeler]\nallowed_hosts = ["saltmarsh.example"]\n', encoding="utf-8")
     code, out = diff(old, new)
     assert code == 0 and "foreign-link" not in out, out
+
+
+def test_approve_reads_allowed_hosts_from_the_config(tmp_path: Path, monkeypatch: pytest.MonkeyPatch) -> None:
+    """`feeler approve` shows the same verdicts as `feeler diff`: with the host listed in `allowed_hosts`,
+    a new link in a description is no poisoned-text review in what approve shows before writing."""
+    import io
+    from contextlib import redirect_stdout
+
+    from feeler.baseline.store import BaselineStore
+    from feeler.cli import run
+
+    monkeypatch.chdir(tmp_path)
+    new = tmp_path / "new.json"
+    new.write_text(json.dumps(_catalog("Explain the tide table. Guide: https://docs.saltmarsh.example/tides").to_json()),
+                   encoding="utf-8")
+    BaselineStore(tmp_path / "baselines", "tides").write(_catalog("Explain the tide table."), None)
+
+    def approve() -> str:
+        shown = io.StringIO()
+        with redirect_stdout(shown):
+            assert run(["approve", str(new), "--name", "tides", "--baselines", str(tmp_path / "baselines"), "--yes"]) == 0
+        return shown.getvalue()
+
+    assert "foreign-link" in approve()  # the host is not listed yet
+    (tmp_path / "pyproject.toml").write_text('[tool.feeler]\nallowed_hosts = ["saltmarsh.example"]\n', encoding="utf-8")
+    BaselineStore(tmp_path / "baselines", "tides").write(_catalog("Explain the tide table."), None)
+    assert "foreign-link" not in approve()

@@ -32,14 +32,17 @@ class ApproveResult:
 
 
 def describe(store: BaselineStore, catalog: Catalog, outputs: list[Mapping[str, Any]] | None,
-             masks: OutputMasks | None = None, samples: int = 10) -> tuple[str, ApproveResult]:
-    """The text shown before approving, and a result prefilled with the differences."""
+             masks: OutputMasks | None = None, samples: int = 10,
+             allowed_hosts: tuple[str, ...] = ()) -> tuple[str, ApproveResult]:
+    """The text shown before approving, and a result prefilled with the differences (*allowed_hosts*:
+    hosts a description may link to, ``allowed_hosts`` of ``[tool.feeler]``)."""
     old = store.catalog_or_none() if store.exists() else None
     if old is None:
         report = DiffReport([], "(no baseline)", "new")
         text = f"feeler approve: no baseline at {store.folder} yet; {len(catalog.tools)} tool(s) will be recorded\n"
     else:
-        report = diff_catalogs(old, catalog, samples=samples, old_label=str(store.catalog_path), new_label="new")
+        report = diff_catalogs(old, catalog, samples=samples, old_label=str(store.catalog_path), new_label="new",
+                               allowed_hosts=allowed_hosts)
         text = render(report, "text")
     out_changes: list[OutputChange] = []
     stale: list[Mapping[str, Any]] = []
@@ -56,15 +59,17 @@ def describe(store: BaselineStore, catalog: Catalog, outputs: list[Mapping[str, 
 
 def approve(store: BaselineStore, catalog: Catalog, outputs: list[Mapping[str, Any]] | None = None, *,
             confirm: Callable[[str], bool], echo: Callable[[str], None] = print,
-            masks: OutputMasks | None = None, source_ref: str | None = None, samples: int = 10) -> ApproveResult:
+            masks: OutputMasks | None = None, source_ref: str | None = None, samples: int = 10,
+            allowed_hosts: tuple[str, ...] = ()) -> ApproveResult:
     """Show the differences between the baseline and *catalog* (and *outputs*), then write if confirmed.
 
     :param confirm: asked "Write ...?" and returns True to write; the CLI passes ``click.confirm`` on a
         terminal or ``lambda _: True`` for ``--yes``.
     :param echo: where the differences are shown.
     :param source_ref: the code revision recorded in the header (``sourceRef``).
+    :param allowed_hosts: hosts a description may link to (no poisoned-text review for links to them).
     """
-    text, result = describe(store, catalog, outputs, masks, samples)
+    text, result = describe(store, catalog, outputs, masks, samples, allowed_hosts)
     echo(text.rstrip("\n"))
     rendered = store.render(catalog, outputs, {})
     if store.exists() and not any(store._differs(p, t) for p, t in rendered.items()) and not source_ref:

@@ -85,6 +85,7 @@ def approve(root: str | None, name: str | None, outputs_file: str | None, record
             outputs = read_json(outputs_file, what="the outputs file", expect=list,
                                 fix="give a JSON list of {tool, arguments, result} objects")
         result = run_approve(store, catalog, outputs, source_ref=source_ref, echo=click.echo, masks=masks,
+                             allowed_hosts=tuple(str(h) for h in config.get("allowed_hosts") or ()),
                              confirm=(lambda _q: True) if yes else (lambda q: click.confirm(q, default=False)))
     except FeelerError as exc:
         raise click.ClickException(str(exc)) from exc
