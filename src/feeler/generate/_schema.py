@@ -22,6 +22,7 @@ from jsonschema import Draft7Validator, Draft201909Validator, Draft202012Validat
 from jsonschema.exceptions import SchemaError, ValidationError
 from jsonschema.protocols import Validator
 
+from feeler._limits import LOWER_COUNTS, count_problem
 from feeler.errors import SchemaProblem
 from feeler.generate import _ecma
 
@@ -180,7 +181,8 @@ class ToolSchema:
     :param recursion_depth: how often generation follows a recursive reference on one path
         (:data:`DEFAULT_RECURSION_DEPTH`); validation is never bounded.
     :raises SchemaProblem: ``unknown-dialect``, ``invalid-schema``, ``remote-ref``, ``unresolvable-ref``,
-        ``invalid-pattern`` or ``slow-pattern``; nothing is ever fetched over the network.
+        ``invalid-pattern``, ``slow-pattern``, or ``over-limit`` (a lower count over
+        :data:`feeler._limits.MAX_COUNT`); nothing is ever fetched over the network.
     """
 
     def __init__(self, schema: Any, *, name: str | None = None, recursion_depth: int = DEFAULT_RECURSION_DEPTH) -> None:
@@ -225,7 +227,7 @@ class ToolSchema:
         #: JSON Pointers of the reference keywords that lead back to a node above them (``/$defs/node/...``).
         self.recursive_refs: frozenset[str] = frozenset()
         self._check_references()
-        self._check_patterns()
+        self._check_keywords()
         self.validator: Validator = ORACLES[self.validator_class](
             schema, format_checker=self.validator_class.FORMAT_CHECKER, registry=self.registry
         )
@@ -308,9 +310,15 @@ class ToolSchema:
                     todo.extend(edges.get(here, ()))
         self.recursive_refs = frozenset(recursive)
 
-    def _check_patterns(self) -> None:
+    def _check_keywords(self) -> None:
+        """Every pattern through :func:`_ecma.check`, every lower count through :func:`count_problem`."""
+
         def visit(node: Any, at: tuple[str | int, ...]) -> None:
             if isinstance(node, dict):
+                for keyword in LOWER_COUNTS:
+                    problem = count_problem(keyword, node.get(keyword))
+                    if problem:
+                        raise SchemaProblem(f"{self.where}{pointer((*at, keyword))}: {problem}", reason="over-limit")
                 found = [(("pattern",), node["pattern"])] if isinstance(node.get("pattern"), str) else []
                 found += [(("patternProperties", p), p) for p in node.get("patternProperties") or {} if isinstance(p, str)]
                 for rel, regex in found:

@@ -25,6 +25,7 @@ from hypothesis import strategies as st
 from jsonschema.exceptions import ValidationError
 
 from feeler._json import canonical_dumps, json_path, to_pointer
+from feeler._limits import UPPER_COUNTS, over_count
 from feeler.errors import SchemaProblem
 from feeler.generate._arguments import arguments_strategy
 from feeler.generate._build import Unbuildable, build, example, find_value
@@ -279,6 +280,11 @@ def _make_bases(ts: ToolSchema) -> list[Any]:
     return out
 
 
+def _unreached(keyword: str, spec: Any) -> bool:
+    """An upper count over feeler._limits.MAX_COUNT (``maxLength: 1e308``): no case is built on or past it."""
+    return keyword in UPPER_COUNTS and over_count(spec)
+
+
 def _sites(ts: ToolSchema, bases: list[Any]) -> Iterator[Site]:
     # A location already reached through an earlier base is not revisited through a later one:
     # each later base only adds what the earlier ones missed (an else branch, an absent optional part).
@@ -312,7 +318,7 @@ def go_cases(
     for site in _sites(ts, bases):
         for keyword, spec in site.kw.items():
             producer = BOUNDARIES.get(keyword)
-            if producer is None:
+            if producer is None or _unreached(keyword, spec):
                 continue
             try:
                 candidates = list(producer(ts, site, spec))
@@ -396,7 +402,8 @@ def nogo_cases(
     for site in _sites(ts, chosen or base_instances(ts)):
         for keyword, spec in site.kw.items():
             mutator = MUTATORS.get(keyword)
-            if mutator is None or (keyword == "type" and site.path == () and not root_type and not site.key_mode):
+            if mutator is None or _unreached(keyword, spec) or (keyword == "type" and site.path == () and not root_type
+                                                                 and not site.key_mode):  # fmt: skip
                 continue
             proven: list[tuple[int, Case]] = []
             try:
