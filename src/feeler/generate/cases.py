@@ -15,8 +15,9 @@ counted in :class:`Tally`.
 from __future__ import annotations
 
 import copy
+import functools
 import random
-from collections.abc import Iterator
+from collections.abc import Callable, Iterator
 from dataclasses import dataclass, field
 from typing import Any
 
@@ -29,6 +30,7 @@ from feeler._limits import UPPER_COUNTS, over_count
 from feeler.errors import SchemaProblem
 from feeler.generate._arguments import arguments_strategy
 from feeler.generate._build import Unbuildable, build, example, find_value
+from feeler.generate._ecma import SlowPattern
 from feeler.generate._fast import fast_values
 from feeler.generate._model import compile_schema, model_of
 from feeler.generate._schema import ToolSchema
@@ -297,6 +299,24 @@ def _sites(ts: ToolSchema, bases: list[Any]) -> Iterator[Site]:
                 yield site
 
 
+def _placed(make: Callable[..., list[Case]]) -> Callable[..., list[Case]]:
+    """*make* (a case maker given the schema first) with a pattern that ran past its time budget named with
+    the tool and the pattern's place in the schema."""
+
+    @functools.wraps(make)
+    def placed(schema: Any, *args: Any, **kwargs: Any) -> list[Case]:
+        try:
+            return make(schema, *args, **kwargs)
+        except SlowPattern as exc:
+            if exc.where:
+                raise
+            ts = compile_schema(schema, recursion_depth=kwargs.get("recursion_depth"))
+            raise SlowPattern(exc.pattern, exc.budget, ts.pattern_place(exc.pattern)) from exc
+
+    return placed
+
+
+@_placed
 def go_cases(
     schema: Any, *, draws: int = 0, seed: int = 0, tally: Tally | None = None, recursion_depth: int | None = None
 ) -> list[Case]:
@@ -345,6 +365,7 @@ def drawn_cases(schema: Any, count: int, *, seed: int = 0, recursion_depth: int 
     return fast_go_cases(schema, count, seed=seed, recursion_depth=recursion_depth)
 
 
+@_placed
 def fast_go_cases(schema: Any, count: int, *, seed: int = 0, recursion_depth: int | None = None) -> list[Case]:
     """*count* go cases built by a seeded sampler outside hypothesis' engine, each checked by the oracle.
 
@@ -364,6 +385,8 @@ def fast_go_cases(schema: Any, count: int, *, seed: int = 0, recursion_depth: in
     if len(values) < count:
         try:
             values += draws(arguments(ts), count - len(values), seed=seed)
+        except SlowPattern:
+            raise  # a pattern feeler cannot judge: a schema problem, not a shortage of values
         except Exception:  # noqa: BLE001 - hypothesis gave up too (filter, unsatisfiable node); use what we have
             pass
     if not values:
@@ -377,6 +400,7 @@ def fast_go_cases(schema: Any, count: int, *, seed: int = 0, recursion_depth: in
     return [Case("go", None, "$", "", value, None, "sampled", "sampled") for value in values]
 
 
+@_placed
 def nogo_cases(
     schema: Any, *, root_type: bool = False, per_keyword: int = 3, tally: Tally | None = None, bases: list[Any] | None = None,
     recursion_depth: int | None = None,
