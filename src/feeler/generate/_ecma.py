@@ -438,7 +438,7 @@ def check(pattern: str) -> None:
 
     :raises PatternError: ``invalid-pattern`` or ``slow-pattern``, with a message naming the pattern.
     """
-    translate(pattern)
+    _matcher(pattern)  # the engine every match runs in must take it too
     shape = slow_shape(list(_p.parse(_translate(pattern, True))))
     if shape:
         raise PatternError(
