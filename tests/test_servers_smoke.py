@@ -679,6 +679,21 @@ def test_unsatisfiable_schemas(tmp_path: Path) -> None:
         assert wire.call("tools/call", {"name": "crossed_bounds", "arguments": {"nights": 3}})["error"]["code"] == -32602
 
 
+def test_hostile_input_schemas(tmp_path: Path) -> None:
+    with started(tmp_path, script("hostile_input_schemas")) as wire:
+        wire.handshake()
+        tools = {t["name"]: t for t in tool_result(wire.call("tools/list"))["tools"]}
+        assert set(tools) == {"huge_min_length", "huge_min_items", "same_alternatives", "greedy_rounds", "nested_bounds",
+                              "chained_alternatives", "huge_max_length", "echo"}  # fmt: skip
+        for tool in tools.values():
+            # valid JSON Schema 2020-12: a count is any non-negative integer (validation 6.3-6.4), 1e308 included
+            Draft202012Validator.check_schema(tool["inputSchema"])
+        assert tools["huge_min_length"]["inputSchema"]["properties"]["a"]["minLength"] == 1e308
+        assert tool_result(wire.call("tools/call", {"name": "echo", "arguments": {"text": "hi"}}))["content"][0]["text"] == "hi"
+        answer = tool_result(wire.call("tools/call", {"name": "huge_max_length", "arguments": {"a": "x"}}))
+        assert answer["content"][0]["text"] == "ok"
+
+
 def test_ignores_sigterm(tmp_path: Path) -> None:
     with started(tmp_path, script("ignores_sigterm"), env={"FEELER_LINGER_S": "30"}) as wire:
         wire.handshake()

@@ -5,6 +5,12 @@ Python's recursion limit; a multi-megabyte schema or a huge ``enum`` makes gener
 for minutes. :func:`schema_limit_problem` walks the schema *iteratively* (no recursion, so it cannot
 overflow itself) and stops at the first limit crossed. Real tool schemas are far below every limit
 (common practice: a few kilobytes, a handful of levels).
+
+Counts are limited too (:data:`MAX_COUNT`): a lower bound such as ``minLength: 1e308`` or ``minItems:
+1000000000`` forces every valid value to be that large, so no value can be built or sent; the input
+schema is refused (:func:`count_problem`, checked by ``ToolSchema`` where it reads the keywords). An upper
+bound that large is harmless to validation and is only not reached: generation treats it as absent and
+builds no case on it.
 """
 
 from __future__ import annotations
@@ -13,7 +19,18 @@ from typing import Any
 
 from feeler.errors import SchemaProblem
 
-__all__ = ["MAX_DEPTH", "MAX_ENUM", "MAX_SCHEMA_BYTES", "check_schema_limits", "schema_limit_problem"]
+__all__ = [
+    "LOWER_COUNTS",
+    "MAX_COUNT",
+    "MAX_DEPTH",
+    "MAX_ENUM",
+    "MAX_SCHEMA_BYTES",
+    "UPPER_COUNTS",
+    "check_schema_limits",
+    "count_problem",
+    "over_count",
+    "schema_limit_problem",
+]
 
 #: Nesting of JSON containers (objects and arrays); one schema level under ``properties`` is two.
 MAX_DEPTH = 64
@@ -21,6 +38,14 @@ MAX_DEPTH = 64
 MAX_SCHEMA_BYTES = 1024 * 1024
 #: Values in one ``enum``.
 MAX_ENUM = 5000
+#: The largest count feeler builds a value for (characters, items, properties). Tool arguments are small
+#: (common practice: a few fields, strings of at most a few thousand characters), and a value of ten
+#: thousand strings or objects is already a large request; a lower count above it is refused.
+MAX_COUNT = 10_000
+#: Counts every valid value must reach (2020-12 validation 6.3.2, 6.4.2, 6.4.5, 6.5.2).
+LOWER_COUNTS = ("minLength", "minItems", "minContains", "minProperties")
+#: Counts no valid value may pass (2020-12 validation 6.3.1, 6.4.1, 6.4.4, 6.5.1).
+UPPER_COUNTS = ("maxLength", "maxItems", "maxContains", "maxProperties")
 
 
 def schema_limit_problem(schema: Any) -> str | None:
@@ -51,6 +76,20 @@ def schema_limit_problem(schema: Any) -> str | None:
             return (f"the schema is larger than {MAX_SCHEMA_BYTES:,} bytes as JSON; feeler refuses it rather than "
                     "run for minutes: split the tool or move large lists out of the schema")
     return None
+
+
+def over_count(value: Any) -> bool:
+    """Is *value* a number above :data:`MAX_COUNT` (a count feeler builds no value for)?"""
+    return isinstance(value, (int, float)) and not isinstance(value, bool) and value > MAX_COUNT
+
+
+def count_problem(keyword: str, value: Any) -> str | None:
+    """Why lower count *keyword* = *value* cannot be met by any value feeler would build, or None."""
+    if keyword not in LOWER_COUNTS or not over_count(value):
+        return None
+    shown = f"{value:,}" if isinstance(value, int) and value < 10**18 else f"{value:g}"
+    return (f"{keyword} {shown} is over the limit of {MAX_COUNT:,}: every valid value would have to be that large, "
+            "and tool arguments are small; lower the bound")
 
 
 def check_schema_limits(schema: Any, *, name: str | None = None) -> None:

@@ -82,8 +82,9 @@ def test_output_schema_clean_sdk_server() -> None:
     [
         # refused up front by the same shape check as input patterns (feeler.generate._ecma.check)
         ("nested-repeat", "output_schema_valid", "output-slow-pattern", "nests an open-ended repeat"),
-        # passes the shape check; the regex engine's time budget ends the match (feeler.check.schemas)
-        ("ambiguous-repeat", "output_schema", "slow-pattern", "took over 2s"),
+        ("ambiguous-repeat", "output_schema_valid", "output-slow-pattern", "repeats alternatives that can match the same text"),
+        # passes the shape check; the regex engine's time budget ends the match (feeler.generate._ecma.search)
+        ("chained-alternatives", "output_schema", "slow-pattern", "took over 2s"),
         # feeler._limits.MAX_DEPTH, applied before the meta-schema check recurses into it
         ("deep", "output_schema_valid", "output-over-limit", "nests more than 64 levels deep"),
     ],

@@ -128,6 +128,28 @@ def test_a_100_level_output_schema_fails_the_catalog_item_with_a_finding(pyteste
     assert result.parseoutcomes().get("error", 0) == 0
 
 
+def test_unusable_input_schemas_fail_items_with_findings_not_errors(pytester: pytest.Pytester) -> None:
+    """tests/servers/hostile_input_schemas.py through the plugin, bounded: the schema problems found up front
+    (feeler._limits.MAX_COUNT, the pattern shape check) fail the catalog item, the pattern that ran past its
+    time budget while the no-go cases were made fails that tool's [no-go] item; no item errors, no
+    INTERNALERROR, and echo's items pass (MCP 2025-11-25 basic/index "JSON Schema usage": one tool at a time)."""
+    _project(pytester, f"{sys.executable} {ROOT / 'tests' / 'servers' / 'hostile_input_schemas.py'}")
+    result = pytester.runpytest_subprocess("-p", "no:cacheprovider", "-q", "-rfE", "-k", "not probe", timeout=180)
+    text = "\n".join(result.outlines + result.errlines)
+    assert "Traceback" not in text and "INTERNALERROR" not in text, text[-3000:]
+    failed = sorted(line.split(" ")[1] for line in result.outlines if line.startswith("FAILED"))
+    assert failed == ["feeler::demo::catalog", "feeler::demo::chained_alternatives[no-go]"], text[-3000:]
+    for says in ("tool 'huge_min_length': /properties/a/minLength: minLength 1e+308 is over the limit of 10,000",
+                 "tool 'huge_min_items': /properties/a/minItems: minItems 1,000,000,000 is over the limit",
+                 "tool 'same_alternatives': /properties/a/pattern: pattern '^(a|a)*$' repeats alternatives",
+                 "tool 'greedy_rounds': /properties/a/pattern: pattern '^(.*a){20}$' repeats a part",
+                 "tool 'nested_bounds': /properties/a/pattern: pattern '^(a{1,30}){1,30}$' repeats a part",
+                 "/properties/a/pattern: pattern '^(a|a)(a|a)"):  # fmt: skip
+        assert any(line.startswith("[schema_usable]") and says in line for line in result.outlines), says
+    assert any("took more than 2s to match one value" in line for line in result.outlines), text[-3000:]
+    assert result.parseoutcomes().get("error", 0) == 0
+
+
 def test_catalog_item_fails_on_drift_and_approve_writes(pytester: pytest.Pytester, monkeypatch: pytest.MonkeyPatch) -> None:
     from feeler.baseline import target_slug
 

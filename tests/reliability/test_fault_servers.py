@@ -89,6 +89,46 @@ def test_fault_is_reported_and_nothing_is_left(fault: Fault, tmp_path: Path) -> 
     assert left == {}, f"left running after {fault.server}: {left}"
 
 
+#: hostile_input_schemas: each tool feeler cannot make arguments for, the reason of its schema_usable finding
+#: and a part of its message (feeler._limits.MAX_COUNT; generate/_ecma.py: the shape check and the time budget)
+HOSTILE = {
+    "huge_min_length": ("over-limit", "/properties/a/minLength: minLength 1e+308 is over the limit of 10,000"),
+    "huge_min_items": ("over-limit", "/properties/a/minItems: minItems 1,000,000,000 is over the limit of 10,000"),
+    "same_alternatives": ("slow-pattern", "pattern '^(a|a)*$' repeats alternatives that can match the same text"),
+    "greedy_rounds": ("slow-pattern", "pattern '^(.*a){20}$' repeats a part whose matches can be split"),
+    "nested_bounds": ("slow-pattern", "pattern '^(a{1,30}){1,30}$' repeats a part whose matches can be split"),
+    "chained_alternatives": ("slow-pattern", "took more than 2s to match one value (catastrophic backtracking)"),
+}
+
+
+def test_unusable_input_schemas_are_findings_and_the_run_goes_on(tmp_path: Path) -> None:
+    """A real ``feeler check --format json`` against hostile_input_schemas, bounded: each tool whose schema
+    cannot be used is one schema_usable finding with its reason (MCP 2025-11-25 basic/index "JSON Schema
+    usage": fail gracefully, one tool at a time), no traceback, and ``echo`` and the tool with a harmless
+    ``maxLength: 1e308`` are still called (JSON Schema 2020-12 validation 6.3.1: any count is valid)."""
+    import json
+
+    run = start_feeler(tmp_path, "check", "--timeout", "5", "--samples", "3", "--no-probes", "--format", "json",
+                       "--replay-dir", "replays", "--", *server("hostile_input_schemas"))  # fmt: skip
+    try:
+        code = run.wait(120)  # kills the group and fails the test past the bound
+        out, err = run.stdout(), run.stderr()
+        assert "Traceback" not in out + err and code == 1, (out + err)[-3000:]
+        report = json.loads(out)
+        found = {f["tool"]: (f["errorClass"], f["message"]) for f in report["findings"] if f["check"] == "schema_usable"}
+        assert set(found) == set(HOSTILE), found
+        for tool, (reason, says) in HOSTILE.items():
+            assert found[tool][0] == reason and says in found[tool][1], (tool, found[tool])
+        tools = report["tools"]
+        assert tools["echo"]["go"]["entered"] > 0 and tools["echo"]["noGo"]["calls"] > 0, tools["echo"]
+        assert tools["huge_max_length"]["go"]["entered"] > 0, tools["huge_max_length"]
+    finally:
+        left = left_running(run.tag)
+        kill_all(left)
+        run.kill()
+    assert left == {}
+
+
 def test_escaped_grandchild_is_named_and_the_grouped_one_ended(tmp_path: Path) -> None:
     """A child in the server's process group goes with the group; one in its own session (setsid(2))
     survives it and is named in a warning with its pid."""

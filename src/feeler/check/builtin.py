@@ -409,10 +409,12 @@ def schema_usable(ctx: CallContext) -> Iterator[Problem]:
     except SchemaProblem as exc:
         yield Problem(f"the inputSchema cannot be used: {exc}", error_class=exc.reason)
     else:
-        # A problem found while making cases (no value found although no contradiction was seen up front).
+        # A problem found while making cases (no value found although no contradiction was seen up front,
+        # or a pattern that ran past its time budget).
         found = getattr(ctx.stats, "schema_problem", None)
         if found:
-            yield Problem(f"the inputSchema cannot be used: {found}", error_class="unsatisfiable")
+            reason = getattr(ctx.stats, "schema_problem_reason", None) or "unsatisfiable"
+            yield Problem(f"the inputSchema cannot be used: {found}", error_class=reason)
     # The outputSchema is output_schema_valid's (feeler.check.audit): one finding, with the place that is wrong.
 
 

@@ -121,6 +121,8 @@ class ToolStats:
     #: seconds spent in answered calls, per case kind (go, no-go, chain)
     seconds: dict[str, float] = field(default_factory=dict)
     schema_problem: str | None = None
+    #: the SchemaProblem's reason for a problem found while making cases (``unsatisfiable``, ``slow-pattern``)
+    schema_problem_reason: str | None = None
     #: the explicit cases sent (boundary go and no-go), kept to compute keyword coverage
     cases: list[Any] = field(default_factory=list, repr=False)
     coverage: list[Any] = field(default_factory=list)
@@ -426,9 +428,10 @@ class Runner:
                 if "no-go" in kinds:
                     self._nogo(tool, stats)
             except SchemaProblem as exc:
-                # No value was found although no contradiction was seen up front: reported like one
-                # (schema_usable, a catalog finding), and the run goes on with the other tools.
-                stats.schema_problem = str(exc)
+                # No value was found although no contradiction was seen up front, or a pattern ran past its
+                # time budget: reported like one (schema_usable, a catalog finding), and the run goes on
+                # with the other tools.
+                stats.schema_problem, stats.schema_problem_reason = str(exc), exc.reason
                 self._evaluate(CallContext("catalog", tool, self.revision, self.era, self.settings, stats=stats),
                                only=("schema_usable",))  # fmt: skip
         if "probe" in kinds and self.options.probes and not reason:

@@ -18,6 +18,7 @@ from decimal import Decimal
 from typing import Any
 
 from feeler._json import canonical_dumps
+from feeler.generate._ecma import SlowPattern
 from feeler.generate._fast import sampler_for
 from feeler.generate._formats import FORMAT_SAMPLES
 from feeler.generate._model import Shape
@@ -233,6 +234,8 @@ def find_value(shape: Shape, want: Callable[[Any], bool] | None = None, seed: in
     for _ in range(_DRAWS):
         try:
             value = sample(rng)
+        except SlowPattern:
+            raise  # the pattern, not this draw: every later draw would fail the same way
         except Exception:  # noqa: BLE001 - a sampler miss: draw again
             continue
         if ok(value):
@@ -290,6 +293,8 @@ def _candidates(shape: Shape, full: bool) -> Iterator[Any]:
     for _ in range(_DRAWS):
         try:
             yield sample(rng)
+        except SlowPattern:
+            raise  # the pattern, not this draw: every later draw would fail the same way
         except Exception:  # noqa: BLE001 - a sampler miss: draw again
             continue
     yield from searched_examples(shape)

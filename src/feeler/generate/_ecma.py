@@ -11,19 +11,29 @@ Python's :mod:`re` differs in ways that matter for a tester:
 - ECMA-262 has ``\\p{...}`` property classes, ``\\u{...}``, ``\\cX``, ``(?<name>...)``, ``\\k<name>``,
   ``[^]`` and ``[]``; Python spells these differently or not at all.
 
-:func:`translate` turns an ECMA-262 pattern into a Python pattern with the ECMA-262 meaning,
-:func:`search` matches with it, and :func:`check` refuses, up front, patterns whose matching can take
-exponential time in a backtracking engine (nested unbounded repeats such as ``(a+)+``): a schema
-with one becomes a :class:`~feeler.errors.SchemaProblem` (``slow-pattern``) instead of a hang.
-The oracle (``ToolSchema``) and every generator read patterns through this module only.
+:func:`translate` turns an ECMA-262 pattern into a Python pattern source with the ECMA-262 meaning;
+:func:`search` matches it in the ``regex`` engine under a time budget (:data:`MATCH_BUDGET`), never in
+Python's :mod:`re`, which holds the interpreter until a match ends (no signal stops it). :func:`check`
+refuses, up front, the common shapes whose matching takes exponential time in a backtracking engine
+(``(a+)+``, ``(a|a)*``, ``(.*a){20}``, ``(a{1,30}){1,30}``); a pattern that slips past it and runs past
+its budget raises :class:`SlowPattern`. Either way the schema becomes a
+:class:`~feeler.errors.SchemaProblem` (``slow-pattern``) instead of a hang. The oracle (``ToolSchema``),
+every generator and the output schemas' validator (:mod:`feeler.check.schemas`) match patterns through
+this module only.
 """
 
 from __future__ import annotations
 
+import contextlib
 import functools
+import math
 import re
 import sys
+import threading
+import time
 import unicodedata
+from collections.abc import Iterator
+from typing import Any
 
 try:  # Python 3.11+
     import re._constants as _c
@@ -32,7 +42,10 @@ except ImportError:  # pragma: no cover - Python 3.10
     import sre_constants as _c  # type: ignore[no-redef]
     import sre_parse as _p  # type: ignore[no-redef]
 
-__all__ = ["PatternError", "check", "compiled", "search", "translate"]
+from feeler.errors import SchemaProblem
+from feeler.generate._backtrack import slow_shape
+
+__all__ = ["MATCH_BUDGET", "PatternError", "SlowPattern", "budget", "check", "search", "translate"]
 
 
 class PatternError(ValueError):
@@ -232,12 +245,19 @@ def _class(reader: _Reader) -> str:
     return ("[^" if negated else "[") + "".join(parts) + "]"
 
 
-@functools.lru_cache(maxsize=1024)
 def translate(pattern: str) -> str:
     """The Python :mod:`re` source that matches exactly what ECMA-262 *pattern* matches.
 
     :raises PatternError: ``invalid-pattern`` for syntax ECMA-262 (u flag) refuses or feeler does not know.
     """
+    return _translate(pattern, False)
+
+
+@functools.lru_cache(maxsize=1024)
+def _translate(pattern: str, marked: bool) -> str:
+    """:func:`translate`; *marked*: each alternative but the last ends in an empty look-ahead ``(?=)``
+    (matching the same), so that Python's parser keeps ``x|[xy]`` as two alternatives instead of merging
+    them into one class as it does for its own engine: the ``regex`` engine backtracks over both."""
     reader = _Reader(pattern)
     out: list[str] = []
     while not reader.done():
@@ -285,6 +305,8 @@ def translate(pattern: str) -> str:
             out.append("(?P<")
         elif char == "(" and reader.peek() == "?" and reader.peek(2)[1:] not in (":", "=", "!", "<"):
             raise PatternError(f"group syntax (?{reader.peek(2)[1:]} in pattern {pattern!r} is not ECMA-262", "invalid-pattern")
+        elif char == "|" and marked:
+            out.append("(?=)|")
         else:
             out.append(char)
     source = "".join(out)
@@ -295,89 +317,133 @@ def translate(pattern: str) -> str:
     return source
 
 
-@functools.lru_cache(maxsize=1024)
-def compiled(pattern: str) -> re.Pattern[str]:
-    """The compiled Python form of ECMA-262 *pattern* (see :func:`translate`)."""
-    return re.compile(translate(pattern))
+# -- matching under a time budget ---------------------------------------------------------------------
+
+#: Seconds one match of a schema's pattern may take (common practice: real patterns match in
+#: microseconds; two seconds are far beyond any honest one). Python's :mod:`re` holds the interpreter
+#: until a match ends, so a stop signal cannot interrupt it; every match of a pattern that came with a
+#: schema runs in the ``regex`` engine instead, whose ``timeout=`` ends it.
+MATCH_BUDGET = 2.0
+
+
+class SlowPattern(SchemaProblem):
+    """Matching *pattern* ran past its time budget (catastrophic backtracking): reason ``slow-pattern``.
+
+    :param where: the tool and the pattern's place, when known (``"tool 'x': /properties/a/pattern: "``).
+    """
+
+    def __init__(self, pattern: str, budget: float, where: str = "") -> None:
+        super().__init__(
+            f"{where}pattern {pattern[:80]!r} took more than {budget:g}s to match one value (catastrophic "
+            "backtracking), so feeler cannot judge values against it; rewrite it so that a near miss fails fast",
+            reason="slow-pattern",
+        )
+        self.pattern, self.budget, self.where = pattern, budget, where
+
+
+class _Budget(threading.local):
+    """The time left to the running :func:`budget` block (per thread); outside one, each match gets the
+    whole :data:`MATCH_BUDGET` and a pattern that ran past it is remembered as slow."""
+
+    deadline = math.inf
+    budget = MATCH_BUDGET
+
+
+_BUDGET = _Budget()
+#: Patterns a match ran past the whole budget with: every later match of them fails at once.
+_SLOW: set[str] = set()
+_MATCHERS: dict[str, Any] = {}
+#: The last match outside a budget block: (pattern, the very text object, found).
+_last: tuple[str, object, bool] = ("", None, False)
+_MATCHERS_SIZE = 1024
+
+
+def _matcher(pattern: str) -> Any:
+    """The ``search`` method of ECMA-262 *pattern* compiled by the ``regex`` engine (cached)."""
+    found = _MATCHERS.get(pattern)
+    if found is None:
+        import regex  # a dozen milliseconds: imported when the first pattern is matched
+
+        source = translate(pattern)
+        try:
+            found = regex.compile(source).search
+        except (regex.error, OverflowError, RecursionError) as exc:
+            raise PatternError(f"pattern {pattern!r} is not a usable regular expression: {exc}", "invalid-pattern") from exc
+        if len(_MATCHERS) >= _MATCHERS_SIZE:
+            _MATCHERS.pop(next(iter(_MATCHERS)))
+        _MATCHERS[pattern] = found
+    return found
 
 
 def search(pattern: str, text: str) -> bool:
-    """Does ECMA-262 *pattern* match somewhere in *text* (JSON Schema patterns are not anchored)?"""
-    return compiled(pattern).search(text) is not None
+    """Does ECMA-262 *pattern* match somewhere in *text* (JSON Schema patterns are not anchored)?
+
+    The match runs in the ``regex`` engine under a time budget: :data:`MATCH_BUDGET` seconds, or what is
+    left of the enclosing :func:`budget` block.
+
+    :raises SlowPattern: the match ran past the budget (a :class:`~feeler.errors.SchemaProblem`).
+    """
+    global _last
+    state = _BUDGET
+    if state.deadline == math.inf:
+        last = _last
+        if last[1] is text and last[0] == pattern:
+            return last[2]  # the same string again (a sampler's draw, then the oracle on it): one match
+        if pattern in _SLOW:
+            raise SlowPattern(pattern, state.budget)
+        try:
+            found = _matcher(pattern)(text, timeout=state.budget) is not None
+        except TimeoutError as exc:
+            _SLOW.add(pattern)  # the whole budget was not enough: later matches would hang the same way
+            raise SlowPattern(pattern, state.budget) from exc
+        _last = (pattern, text, found)
+        return found
+    left = min(state.deadline - time.monotonic(), state.budget)
+    if left <= 0:
+        raise SlowPattern(pattern, state.budget)
+    try:
+        return _matcher(pattern)(text, timeout=left) is not None
+    except TimeoutError as exc:
+        raise SlowPattern(pattern, state.budget) from exc
 
 
-# -- catastrophic backtracking ------------------------------------------------------------------------
-
-_REPEATS = (_c.MAX_REPEAT, _c.MIN_REPEAT) + ((_c.POSSESSIVE_REPEAT,) if hasattr(_c, "POSSESSIVE_REPEAT") else ())
-
-
-def _nullable(op: object, av: object) -> bool:
-    if op is _c.AT:
-        return True
-    if op in _REPEATS:
-        return av[0] == 0 or all(_nullable(o, a) for o, a in av[2])  # type: ignore[index]
-    if op is _c.SUBPATTERN:
-        return all(_nullable(o, a) for o, a in av[-1])  # type: ignore[index]
-    if op is _c.BRANCH:
-        return any(all(_nullable(o, a) for o, a in branch) for branch in av[1])  # type: ignore[index]
-    return op in (_c.ASSERT, _c.ASSERT_NOT)
-
-
-def _unbounded_inside(tokens: list) -> bool:
-    """Does *tokens* hold an open-ended repeat with every other item able to match nothing?"""
-    for i, (op, av) in enumerate(tokens):
-        if op in _REPEATS and av[1] == _c.MAXREPEAT:
-            if all(_nullable(o, a) for j, (o, a) in enumerate(tokens) if j != i):
-                return True
-            # Two open-ended repeats of the same thing with only optional parts between (x+x+): ambiguous too.
-            for j in range(i + 1, len(tokens)):
-                o2, a2 = tokens[j]
-                if o2 in _REPEATS and a2[1] == _c.MAXREPEAT and list(a2[2]) == list(av[2]):
-                    return True
-                if not _nullable(o2, a2):
-                    break
-        if op is _c.SUBPATTERN and _unbounded_inside(list(av[-1])):
-            return True
-        if op is _c.BRANCH and any(_unbounded_inside(list(b)) for b in av[1]):
-            return True
-    return False
-
-
-def _nested_repeat(tokens: list) -> bool:
-    for op, av in tokens:
-        if op in _REPEATS:
-            body = list(av[2])
-            if av[1] > 1 and _unbounded_inside(body):
-                return True
-            if _nested_repeat(body):
-                return True
-        elif op is _c.SUBPATTERN:
-            if _nested_repeat(list(av[-1])):
-                return True
-        elif op is _c.BRANCH:
-            if any(_nested_repeat(list(b)) for b in av[1]):
-                return True
-        elif op in (_c.ASSERT, _c.ASSERT_NOT) and _nested_repeat(list(av[1])):
-            return True
-    return False
+@contextlib.contextmanager
+def budget(seconds: float = MATCH_BUDGET) -> Iterator[None]:
+    """Every match inside the block shares *seconds* (one validation of a server's answer, say); a pattern
+    that runs out of them is not remembered as slow, since the others may have used the time."""
+    previous = _BUDGET.deadline, _BUDGET.budget
+    _BUDGET.deadline, _BUDGET.budget = time.monotonic() + seconds, seconds
+    try:
+        yield
+    finally:
+        _BUDGET.deadline, _BUDGET.budget = previous
 
 
 @functools.lru_cache(maxsize=1024)
 def check(pattern: str) -> None:
     """Refuse a pattern that is not ECMA-262 or whose matching can take exponential time.
 
-    The time check is a shape check on the parse tree: a repeat (``+``, ``*``, ``{2,}``...) whose body
-    is an open-ended repeat plus only parts that may match nothing (``(a+)+``, ``(\\w+\\s?)*``,
-    ``((ab)*)+``). Such patterns take exponential time on a near-miss string in any backtracking
-    engine, Python's :mod:`re` and ECMA-262's own included; feeler will not hang on them.
+    The time check is a shape check on the parse tree (:func:`~._backtrack.slow_shape`), for the shapes that take exponential time on a
+    near-miss string in any backtracking engine (Python's :mod:`re` and ECMA-262's own included):
+
+    - a repeat whose body is an open-ended repeat plus only parts that may match nothing (``(a+)+``,
+      ``(\\w+\\s?)*``, ``((ab)*)+``);
+    - a repeat of many rounds (open-ended, or ten with the repeats around it) over alternatives
+      that can match the same text (``(a|a)*``, ``(\\w|\\d)+``);
+    - a repeat of many rounds whose body can be split in more than one way: the end of one round can
+      start the next (``(a{1,30}){1,30}``, ``(\\d|1\\d)+``), or a part of variable length can take what
+      the part after it needs (``(.*a){20}``).
+
+    It is a guess that errs little both ways; the guarantee is the time budget of every match (:func:`search`).
 
     :raises PatternError: ``invalid-pattern`` or ``slow-pattern``, with a message naming the pattern.
     """
-    source = translate(pattern)
-    if _nested_repeat(list(_p.parse(source))):
+    _matcher(pattern)  # the engine every match runs in must take it too
+    shape = slow_shape(list(_p.parse(_translate(pattern, True))))
+    if shape:
         raise PatternError(
-            f"pattern {pattern!r} nests an open-ended repeat inside another (like (a+)+): matching a near miss "
-            "takes exponential time in a backtracking engine, so feeler cannot judge it. Rewrite the pattern "
-            "without the nested repeat (for example ^a+$ instead of ^(a+)+$)",
+            f"pattern {pattern!r} {shape}: matching a near miss takes exponential time in a "
+            "backtracking engine, so feeler cannot judge it. Rewrite the pattern so that each character can be "
+            "matched one way only (for example ^a+$ instead of ^(a+)+$ or ^(a|a)*$)",
             "slow-pattern",
         )

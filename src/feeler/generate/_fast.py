@@ -346,7 +346,6 @@ def _text_sampler(low: int, high: int | None, formats: list[str], patterns: list
         pattern = patterns[0]
         try:
             tree = list(_p.parse(_ecma.translate(pattern)))
-            compiled = _ecma.compiled(pattern)
         except (re.error, OverflowError, RecursionError, _ecma.PatternError) as exc:
             raise Unbuildable from exc
         fallback = [t for t in (regex_example(pattern, g) for g in (0, 1, 3, 8)) if t is not None and fits(t)]
@@ -357,7 +356,7 @@ def _text_sampler(low: int, high: int | None, formats: list[str], patterns: list
                     text = _emit(tree, rng)
                 except _Give:
                     break
-                if fits(text) and compiled.search(text):
+                if fits(text) and _ecma.search(pattern, text):
                     return text
             if fallback:
                 return rng.choice(fallback)

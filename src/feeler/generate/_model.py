@@ -31,7 +31,7 @@ from collections.abc import Iterable
 from typing import Any
 
 from feeler._json import canonical_dumps
-from feeler._limits import check_schema_limits
+from feeler._limits import check_schema_limits, over_count
 from feeler.errors import SchemaProblem
 from feeler.generate import _ecma
 from feeler.generate._schema import DEFAULT_RECURSION_DEPTH, REF_KEYWORDS, ToolSchema, pointer
@@ -163,9 +163,13 @@ def _count(keyword: str, lower: bool) -> Any:
     """A cached property of :class:`Shape`: the tightest *keyword* count among its parts."""
 
     def tightest(shape: Shape) -> int | None:
-        return shape._most(keyword) if lower else shape._least(keyword)
+        if lower:
+            return shape._most(keyword)
+        high = shape._least(keyword)
+        return None if over_count(high) else high  # feeler._limits: a bound no value feeler builds comes near
 
-    tightest.__doc__ = f"The tightest {keyword} among the parts ({'0' if lower else 'None'} when none sets it)."
+    tightest.__doc__ = (f"The tightest {keyword} among the parts ({'0' if lower else 'None'} when none sets it"
+                        f"{'' if lower else ' or it is over feeler._limits.MAX_COUNT'}).")
     return functools.cached_property(tightest)
 
 
@@ -341,7 +345,8 @@ class Shape:
             node = part.child("contains")
             if node is not None:
                 low = part.kw.get("minContains", 1) if "minContains" in part.kw else 1
-                out.append((self.model.shape([node]), low, part.kw.get("maxContains")))
+                high = part.kw.get("maxContains")
+                out.append((self.model.shape([node]), low, None if over_count(high) else high))
         return out
 
     # -- objects ----------------------------------------------------------------------------------------

@@ -11,6 +11,7 @@ The compiled model every generator reads (:mod:`._model`) is built on top of it.
 from __future__ import annotations
 
 import copy
+import functools
 from collections.abc import Iterator
 from typing import Any
 from urllib.parse import urldefrag, urljoin
@@ -22,10 +23,11 @@ from jsonschema import Draft7Validator, Draft201909Validator, Draft202012Validat
 from jsonschema.exceptions import SchemaError, ValidationError
 from jsonschema.protocols import Validator
 
+from feeler._limits import LOWER_COUNTS, count_problem
 from feeler.errors import SchemaProblem
 from feeler.generate import _ecma
 
-__all__ = ["DEFAULT_DIALECT", "DEFAULT_RECURSION_DEPTH", "DIALECTS", "ToolSchema", "pointer", "subschemas"]
+__all__ = ["DEFAULT_DIALECT", "DEFAULT_RECURSION_DEPTH", "DIALECTS", "ToolSchema", "ecma_validator", "pointer", "subschemas"]
 
 #: Dialects we generate for, keyed by the ``$schema`` URI without its trailing ``#``.
 #: MCP 2025-11-25 basic/index ("JSON Schema usage"): no ``$schema`` means 2020-12.
@@ -51,7 +53,8 @@ SCHEMA_LIST_KEYWORDS = ("allOf", "anyOf", "oneOf", "prefixItems")
 SCHEMA_MAP_KEYWORDS = ("properties", "patternProperties", "$defs", "definitions", "dependentSchemas")
 
 
-# -- the oracle judges patterns the ECMA-262 way (JSON Schema 2020-12 validation 6.3.3, core 6.4) --------
+# -- the oracle judges patterns the ECMA-262 way (JSON Schema 2020-12 validation 6.3.3, core 6.4), each --
+# -- match under a time budget (_ecma.search: the regex engine, never Python's re) ---------------------
 
 
 def _pattern(validator: Any, regex: str, instance: Any, schema: Any) -> Iterator[ValidationError]:
@@ -85,11 +88,91 @@ def _additional_properties(validator: Any, spec: Any, instance: Any, schema: Any
         yield ValidationError(f"Additional properties are not allowed ({', '.join(map(repr, sorted(extras)))} unexpected)")
 
 
-_ECMA_KEYWORDS = {"pattern": _pattern, "patternProperties": _pattern_properties, "additionalProperties": _additional_properties}
-#: The oracle per dialect: jsonschema's validator with the three pattern-reading keywords read the ECMA-262 way.
-#: (``unevaluatedProperties`` still reads ``patternProperties`` with Python's re; see DEVELOPERS.md.)
+def _valid(errors: Iterator[Any]) -> bool:
+    return next(errors, None) is None
+
+
+def _evaluated_keys(validator: Any, instance: dict, schema: Any, legacy: bool) -> list[Any]:
+    """The keys of *instance* that *schema* evaluates, as jsonschema 4.26 finds them for
+    ``unevaluatedProperties`` (2020-12; 2019-09 with *legacy*), with ``patternProperties`` read by
+    :func:`_ecma.search` instead of Python's ``re`` (2020-12 core 11.3)."""
+    if validator.is_type(schema, "boolean"):
+        return []
+    keys: list[Any] = []
+    targets = [validator._resolver.lookup(schema["$ref"])] if schema.get("$ref") is not None else []  # noqa: SLF001
+    if legacy and "$recursiveRef" in schema:
+        targets.append(referencing.jsonschema.lookup_recursive_ref(validator._resolver))  # noqa: SLF001
+    elif not legacy and schema.get("$dynamicRef") is not None:
+        targets.append(validator._resolver.lookup(schema["$dynamicRef"]))  # noqa: SLF001
+    for found in targets:
+        keys += _evaluated_keys(validator.evolve(schema=found.contents, _resolver=found.resolver), instance, found.contents, legacy)
+    if legacy:
+        for keyword in ("properties", "additionalProperties", "unevaluatedProperties"):
+            value = schema.get(keyword)
+            if value is True:
+                keys += instance.keys()
+            elif validator.is_type(value, "object"):
+                keys += [name for name in value if name in instance]
+    else:
+        if validator.is_type(schema.get("properties"), "object"):
+            keys += schema["properties"].keys() & instance.keys()
+        for keyword in ("additionalProperties", "unevaluatedProperties"):
+            if (sub := schema.get(keyword)) is not None:
+                keys += [key for key, value in instance.items() if _valid(validator.descend(value, sub))]
+    for regex in schema.get("patternProperties", {}):
+        keys += [key for key in instance if _ecma.search(regex, key)]
+    for trigger, sub in schema.get("dependentSchemas", {}).items():
+        if trigger in instance:
+            keys += _evaluated_keys(validator, instance, sub, legacy)
+    for keyword in ("allOf", "oneOf", "anyOf"):
+        for sub in schema.get(keyword, []):
+            if _valid(validator.descend(instance, sub)):
+                keys += _evaluated_keys(validator, instance, sub, legacy)
+    if "if" in schema:
+        if validator.evolve(schema=schema["if"]).is_valid(instance):
+            keys += _evaluated_keys(validator, instance, schema["if"], legacy)
+            if "then" in schema:
+                keys += _evaluated_keys(validator, instance, schema["then"], legacy)
+        elif "else" in schema:
+            keys += _evaluated_keys(validator, instance, schema["else"], legacy)
+    return keys
+
+
+def _unevaluated_properties(validator: Any, spec: Any, instance: Any, schema: Any, legacy: bool = False) -> Iterator[ValidationError]:
+    if not validator.is_type(instance, "object"):
+        return
+    evaluated = _evaluated_keys(validator, instance, schema, legacy)
+    unevaluated = [key for key in instance if key not in evaluated
+                   for _ in validator.descend(instance[key], spec, path=key, schema_path=key)]  # fmt: skip
+    if unevaluated:
+        # jsonschema's wording (_keywords.unevaluatedProperties, _utils.extras_msg)
+        names = sorted(unevaluated, key=str) if spec is False else unevaluated
+        listed = ", ".join(repr(name) for name in names) + (" was" if len(names) == 1 else " were")
+        if spec is False:
+            yield ValidationError(f"Unevaluated properties are not allowed ({listed} unexpected)")
+        else:
+            yield ValidationError(f"Unevaluated properties are not valid under the given schema ({listed} unevaluated and invalid)")
+
+
+@functools.lru_cache(maxsize=8)
+def ecma_validator(cls: type[Validator]) -> type[Validator]:
+    """*cls* (a ``jsonschema`` validator class) with every keyword that reads a pattern (``pattern``,
+    ``patternProperties``, ``additionalProperties``, ``unevaluatedProperties``) reading it the ECMA-262
+    way, each match under a time budget (:func:`_ecma.search`). The oracle of input schemas, and the
+    validator of output schemas (:mod:`feeler.check.schemas`)."""
+    legacy = "$recursiveRef" in cls.VALIDATORS  # 2019-09
+    keywords = {
+        "pattern": _pattern,
+        "patternProperties": _pattern_properties,
+        "additionalProperties": _additional_properties,
+        "unevaluatedProperties": functools.partial(_unevaluated_properties, legacy=legacy),
+    }
+    return validators.extend(cls, {k: v for k, v in keywords.items() if k in cls.VALIDATORS})
+
+
+#: The oracle per dialect: jsonschema's validator with the pattern-reading keywords read the ECMA-262 way.
 ORACLES: dict[type[Validator], type[Validator]] = {
-    cls: validators.extend(cls, _ECMA_KEYWORDS) for cls in (Draft7Validator, Draft201909Validator, Draft202012Validator)
+    cls: ecma_validator(cls) for cls in (Draft7Validator, Draft201909Validator, Draft202012Validator)
 }
 
 
@@ -180,7 +263,8 @@ class ToolSchema:
     :param recursion_depth: how often generation follows a recursive reference on one path
         (:data:`DEFAULT_RECURSION_DEPTH`); validation is never bounded.
     :raises SchemaProblem: ``unknown-dialect``, ``invalid-schema``, ``remote-ref``, ``unresolvable-ref``,
-        ``invalid-pattern`` or ``slow-pattern``; nothing is ever fetched over the network.
+        ``invalid-pattern``, ``slow-pattern``, or ``over-limit`` (a lower count over
+        :data:`feeler._limits.MAX_COUNT`); nothing is ever fetched over the network.
     """
 
     def __init__(self, schema: Any, *, name: str | None = None, recursion_depth: int = DEFAULT_RECURSION_DEPTH) -> None:
@@ -225,7 +309,7 @@ class ToolSchema:
         #: JSON Pointers of the reference keywords that lead back to a node above them (``/$defs/node/...``).
         self.recursive_refs: frozenset[str] = frozenset()
         self._check_references()
-        self._check_patterns()
+        self._check_keywords()
         self.validator: Validator = ORACLES[self.validator_class](
             schema, format_checker=self.validator_class.FORMAT_CHECKER, registry=self.registry
         )
@@ -308,12 +392,20 @@ class ToolSchema:
                     todo.extend(edges.get(here, ()))
         self.recursive_refs = frozenset(recursive)
 
-    def _check_patterns(self) -> None:
+    def _check_keywords(self) -> None:
+        """Every pattern through :func:`_ecma.check`, every lower count through :func:`count_problem`."""
+        self._pattern_places: dict[str, str] = {}
+
         def visit(node: Any, at: tuple[str | int, ...]) -> None:
             if isinstance(node, dict):
+                for keyword in LOWER_COUNTS:
+                    problem = count_problem(keyword, node.get(keyword))
+                    if problem:
+                        raise SchemaProblem(f"{self.where}{pointer((*at, keyword))}: {problem}", reason="over-limit")
                 found = [(("pattern",), node["pattern"])] if isinstance(node.get("pattern"), str) else []
                 found += [(("patternProperties", p), p) for p in node.get("patternProperties") or {} if isinstance(p, str)]
                 for rel, regex in found:
+                    self._pattern_places.setdefault(regex, pointer(at + rel))
                     try:
                         _ecma.check(regex)
                     except _ecma.PatternError as exc:
@@ -322,6 +414,12 @@ class ToolSchema:
                 visit(sub, at + rel)
 
         visit(self.schema, ())
+
+    def pattern_place(self, pattern: str) -> str:
+        """``"tool 'x': /properties/a/pattern: "``: the tool and the first place *pattern* is written
+        (a ``pattern`` or a ``patternProperties`` key), for messages."""
+        place = self._pattern_places.get(pattern)
+        return f"{self.where}{place}: " if place else self.where
 
     # -- the oracle ---------------------------------------------------------------------------------
     def is_valid(self, instance: Any) -> bool:

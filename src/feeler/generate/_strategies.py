@@ -14,10 +14,11 @@ from __future__ import annotations
 
 import functools
 import math
+import re
 from collections.abc import Callable, Iterator
 from typing import Any
 
-from hypothesis import HealthCheck, Phase, find, given, settings
+from hypothesis import HealthCheck, Phase, find, given, reject, settings
 from hypothesis.control import currently_in_test_context
 from hypothesis import seed as hypothesis_seed
 from hypothesis import strategies as st
@@ -27,8 +28,9 @@ from feeler._json import canonical_dumps
 from feeler.generate import _ecma
 from feeler.generate._formats import format_strategies
 from feeler.generate._model import TYPES, Shape
+from feeler.generate._regex import _c, _p
 
-__all__ = ["TYPE_STRATEGIES", "Unbuildable", "draws", "searched_example", "searched_examples", "strategy_for"]
+__all__ = ["TYPE_STRATEGIES", "Unbuildable", "draws", "pattern_strings", "searched_example", "searched_examples", "strategy_for"]
 
 #: Unbounded sizes are capped this far above the lower bound: tool arguments are small.
 _SPAN = 4
@@ -122,10 +124,90 @@ def _strings(shape: Shape) -> st.SearchStrategy[str]:
         return _FORMATS[shape.formats[0]].filter(fits)
     if shape.patterns:
         # The pattern translated to Python with its ECMA-262 meaning (2020-12 validation section 6.3.3).
-        regex = shape.patterns[0]
-        return st.from_regex(_ecma.translate(regex)).filter(lambda s: fits(s) and _ecma.search(regex, s))
+        return pattern_strings(shape.patterns[0]).filter(fits)
     top = high if high is not None else low + 2 * _SPAN
     return st.text(st.characters(codec="utf-8"), min_size=low, max_size=max(low, top))
+
+
+#: What a class that is a Python category stands for (translate() writes ``[^]`` as ``[\s\S]``).
+_CATEGORIES = {_c.CATEGORY_SPACE: re.compile(r"\s"), _c.CATEGORY_NOT_SPACE: re.compile(r"\S"),
+               _c.CATEGORY_DIGIT: re.compile(r"\d"), _c.CATEGORY_NOT_DIGIT: re.compile(r"\D"),
+               _c.CATEGORY_WORD: re.compile(r"\w"), _c.CATEGORY_NOT_WORD: re.compile(r"\W")}  # fmt: skip
+_PRINTABLE = (32, 126)
+
+
+def _class_strategy(items: list, chars: st.SearchStrategy[str], ascii: bool) -> st.SearchStrategy[str]:
+    """One character of a parsed class (``[...]``), drawn from its members (under *ascii*, printable
+    ASCII members when it has any)."""
+    negated = bool(items) and items[0][0] is _c.NEGATE
+    members = items[1:] if negated else items
+
+    def inside(char: str) -> bool:
+        code = ord(char)
+        return any(code == av if op is _c.LITERAL else av[0] <= code <= av[1] if op is _c.RANGE
+                   else bool(_CATEGORIES[av].match(char)) for op, av in members)  # fmt: skip
+
+    if negated:
+        return chars.filter(lambda c: not inside(c))
+    spans = [(av, av) if op is _c.LITERAL else av if op is _c.RANGE else (0, 0x10FFFF) for op, av in members]
+    printable = [(max(lo, _PRINTABLE[0]), min(hi, _PRINTABLE[1])) for lo, hi in spans]
+    if ascii and any(lo <= hi for lo, hi in printable):
+        spans = printable  # a class with no printable ASCII member keeps its own members
+    parts = [st.characters(min_codepoint=lo, max_codepoint=hi, codec="utf-8") for lo, hi in spans if lo <= hi]
+    return st.one_of(parts).filter(inside)
+
+
+def pattern_strings(pattern: str, ascii: bool = False) -> st.SearchStrategy[str]:
+    """Strings ECMA-262 *pattern* matches: drawn from its parse tree as hypothesis' ``from_regex`` draws
+    them (a repeat's count as a list's size, a branch, each class member), with random text around an
+    unanchored match now and then, and confirmed by :func:`_ecma.search`. (``from_regex`` confirms its
+    draws with Python's ``re``, which no time budget can stop: a schema's pattern never goes there.)
+
+    :param ascii: printable ASCII where the pattern leaves a choice (property names).
+    """
+    tree = list(_p.parse(_ecma.translate(pattern)))
+    chars = st.characters(min_codepoint=_PRINTABLE[0], max_codepoint=_PRINTABLE[1]) if ascii else st.characters(codec="utf-8")
+    classes: dict[int, st.SearchStrategy[str]] = {}
+    pads = [st.just("") if tree and tree[0] == (_c.AT, _c.AT_BEGINNING) else st.text(chars, max_size=4),
+            st.just("") if tree and tree[-1] == (_c.AT, _c.AT_END_STRING) else st.text(chars, max_size=4)]  # fmt: skip
+
+    def drawn(draw: Any, tokens: Any, groups: dict[Any, str]) -> str:
+        out = []
+        for op, av in tokens:
+            if op is _c.LITERAL:
+                out.append(chr(av))
+            elif op is _c.IN:
+                if id(av) not in classes:
+                    classes[id(av)] = _class_strategy(av, chars, ascii)
+                out.append(draw(classes[id(av)]))
+            elif op in (_c.NOT_LITERAL, _c.ANY):
+                out.append(draw(chars.filter(lambda c, no=av if op is _c.NOT_LITERAL else 10: ord(c) != no)))
+            elif op in (_c.MAX_REPEAT, _c.MIN_REPEAT):
+                low, high, body = av
+                rounds = draw(st.lists(st.none(), min_size=low, max_size=None if high == _c.MAXREPEAT else high))
+                out.extend(drawn(draw, body, groups) for _ in rounds)
+            elif op is _c.SUBPATTERN:
+                groups[av[0]] = text = drawn(draw, av[-1], groups)
+                out.append(text)
+            elif op is _c.BRANCH:
+                out.append(drawn(draw, draw(st.sampled_from(av[1])), groups))
+            elif op is _c.GROUPREF:
+                out.append(groups.get(av, ""))
+            elif op not in (_c.AT, _c.ASSERT, _c.ASSERT_NOT):  # anchors and look-arounds: the match is confirmed after
+                reject()
+        return "".join(out)
+
+    @st.composite
+    def matching(draw: Any) -> str:
+        text = drawn(draw, tree, {})
+        left, right = draw(pads[0]), draw(pads[1])
+        if left and _ecma.search(pattern, left + text):
+            text = left + text
+        if right and _ecma.search(pattern, text + right):
+            text += right
+        return text
+
+    return matching().filter(functools.partial(_ecma.search, pattern))
 
 
 def _arrays(shape: Shape) -> st.SearchStrategy[list]:
@@ -169,10 +251,8 @@ def _objects(shape: Shape) -> st.SearchStrategy[dict]:
         optional={name: strategy_for(shape.for_key(name)) for name in optional},
     )
     extras: list[tuple[st.SearchStrategy[str], Callable[[str], Shape]]] = []
-    ascii_chars = st.characters(min_codepoint=32, max_codepoint=126)
     for pattern in shape.pattern_keys:
-        keys = st.from_regex(_ecma.translate(pattern), alphabet=ascii_chars).filter(functools.partial(_ecma.search, pattern))
-        extras.append((keys, shape.for_key))
+        extras.append((pattern_strings(pattern, ascii=True), shape.for_key))
     low, high = shape.min_props, shape.max_props
     if shape.extra is not None and (shape.extra.parts or shape.names is not None or low > len(shape.declared)):
         keys = strategy_for(shape.names).filter(lambda k: isinstance(k, str)) if shape.names is not None else st.text(
@@ -246,6 +326,8 @@ def searched_examples(shape: Shape, count: int = 50) -> Iterator[Any]:
         return
     try:
         yield from draws(strategy_for(shape), count, seed=0)
+    except _ecma.SlowPattern:
+        raise  # the schema's pattern cannot be judged: not a lack of variety
     except Exception:  # noqa: BLE001 - a best-effort source of variety; the caller decides what is enough
         return
 

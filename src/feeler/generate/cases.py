@@ -15,8 +15,9 @@ counted in :class:`Tally`.
 from __future__ import annotations
 
 import copy
+import functools
 import random
-from collections.abc import Iterator
+from collections.abc import Callable, Iterator
 from dataclasses import dataclass, field
 from typing import Any
 
@@ -25,9 +26,11 @@ from hypothesis import strategies as st
 from jsonschema.exceptions import ValidationError
 
 from feeler._json import canonical_dumps, json_path, to_pointer
+from feeler._limits import UPPER_COUNTS, over_count
 from feeler.errors import SchemaProblem
 from feeler.generate._arguments import arguments_strategy
 from feeler.generate._build import Unbuildable, build, example, find_value
+from feeler.generate._ecma import SlowPattern
 from feeler.generate._fast import fast_values
 from feeler.generate._model import compile_schema, model_of
 from feeler.generate._schema import ToolSchema
@@ -279,6 +282,11 @@ def _make_bases(ts: ToolSchema) -> list[Any]:
     return out
 
 
+def _unreached(keyword: str, spec: Any) -> bool:
+    """An upper count over feeler._limits.MAX_COUNT (``maxLength: 1e308``): no case is built on or past it."""
+    return keyword in UPPER_COUNTS and over_count(spec)
+
+
 def _sites(ts: ToolSchema, bases: list[Any]) -> Iterator[Site]:
     # A location already reached through an earlier base is not revisited through a later one:
     # each later base only adds what the earlier ones missed (an else branch, an absent optional part).
@@ -291,6 +299,24 @@ def _sites(ts: ToolSchema, bases: list[Any]) -> Iterator[Site]:
                 yield site
 
 
+def _placed(make: Callable[..., list[Case]]) -> Callable[..., list[Case]]:
+    """*make* (a case maker given the schema first) with a pattern that ran past its time budget named with
+    the tool and the pattern's place in the schema."""
+
+    @functools.wraps(make)
+    def placed(schema: Any, *args: Any, **kwargs: Any) -> list[Case]:
+        try:
+            return make(schema, *args, **kwargs)
+        except SlowPattern as exc:
+            if exc.where:
+                raise
+            ts = compile_schema(schema, recursion_depth=kwargs.get("recursion_depth"))
+            raise SlowPattern(exc.pattern, exc.budget, ts.pattern_place(exc.pattern)) from exc
+
+    return placed
+
+
+@_placed
 def go_cases(
     schema: Any, *, draws: int = 0, seed: int = 0, tally: Tally | None = None, recursion_depth: int | None = None
 ) -> list[Case]:
@@ -312,7 +338,7 @@ def go_cases(
     for site in _sites(ts, bases):
         for keyword, spec in site.kw.items():
             producer = BOUNDARIES.get(keyword)
-            if producer is None:
+            if producer is None or _unreached(keyword, spec):
                 continue
             try:
                 candidates = list(producer(ts, site, spec))
@@ -339,6 +365,7 @@ def drawn_cases(schema: Any, count: int, *, seed: int = 0, recursion_depth: int 
     return fast_go_cases(schema, count, seed=seed, recursion_depth=recursion_depth)
 
 
+@_placed
 def fast_go_cases(schema: Any, count: int, *, seed: int = 0, recursion_depth: int | None = None) -> list[Case]:
     """*count* go cases built by a seeded sampler outside hypothesis' engine, each checked by the oracle.
 
@@ -358,6 +385,8 @@ def fast_go_cases(schema: Any, count: int, *, seed: int = 0, recursion_depth: in
     if len(values) < count:
         try:
             values += draws(arguments(ts), count - len(values), seed=seed)
+        except SlowPattern:
+            raise  # a pattern feeler cannot judge: a schema problem, not a shortage of values
         except Exception:  # noqa: BLE001 - hypothesis gave up too (filter, unsatisfiable node); use what we have
             pass
     if not values:
@@ -371,6 +400,7 @@ def fast_go_cases(schema: Any, count: int, *, seed: int = 0, recursion_depth: in
     return [Case("go", None, "$", "", value, None, "sampled", "sampled") for value in values]
 
 
+@_placed
 def nogo_cases(
     schema: Any, *, root_type: bool = False, per_keyword: int = 3, tally: Tally | None = None, bases: list[Any] | None = None,
     recursion_depth: int | None = None,
@@ -396,7 +426,8 @@ def nogo_cases(
     for site in _sites(ts, chosen or base_instances(ts)):
         for keyword, spec in site.kw.items():
             mutator = MUTATORS.get(keyword)
-            if mutator is None or (keyword == "type" and site.path == () and not root_type and not site.key_mode):
+            if mutator is None or _unreached(keyword, spec) or (keyword == "type" and site.path == () and not root_type
+                                                                 and not site.key_mode):  # fmt: skip
                 continue
             proven: list[tuple[int, Case]] = []
             try:

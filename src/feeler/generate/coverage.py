@@ -11,6 +11,7 @@ from collections.abc import Iterable
 from dataclasses import dataclass
 from typing import Any
 
+from feeler._limits import MAX_COUNT, UPPER_COUNTS, over_count
 from feeler.generate._model import ANNOTATIONS, compile_schema
 from feeler.generate._schema import SCHEMA_KEYWORDS, SCHEMA_LIST_KEYWORDS, SCHEMA_MAP_KEYWORDS, ToolSchema, pointer, subschemas
 from feeler.generate._walk import sites
@@ -75,6 +76,8 @@ def _why(ts: ToolSchema, at: str, keyword: str, node: Any, value: Any, reached: 
         return "arguments must be a JSON object on the wire; other types are sent as protocol probes"
     if keyword == "type" and set([value] if isinstance(value, str) else value) >= _ALL_TYPES - {"integer"}:
         return "every JSON type is allowed"
+    if keyword in UPPER_COUNTS and over_count(value):
+        return f"{keyword} {value:g} is over feeler's limit of {MAX_COUNT:,}: no value that large is built (tool arguments are small)"
     if keyword in ("minLength", "minItems", "minProperties", "minContains") and value == 0:
         return f"{keyword} 0 is met by every value"
     if keyword == "uniqueItems" and value is False:

@@ -305,6 +305,8 @@ HOSTILE_OUTPUTS: dict[str, dict[str, Any]] = {
     "nested-repeat": {"type": "object", "properties": {"upper": {"type": "string", "pattern": "^(.+)+$"}}},
     # an ambiguous alternation under a repeat: not a nested repeat, still exponential on a near miss
     "ambiguous-repeat": {"type": "object", "properties": {"upper": {"type": "string", "pattern": "^(A|A)*$"}}},
+    # the same alternation thirty times in a row: no repeat for a shape check to see, 2**30 ways to try
+    "chained-alternatives": {"type": "object", "properties": {"upper": {"type": "string", "pattern": "^" + "(A|A)" * 30 + "$"}}},
     # ECMA-262 reading: "$" is the very end (Python's re would also match before a final newline)
     "dollar": {"type": "object", "properties": {"upper": {"type": "string", "pattern": "^[A-Z]+$"}}},
     # 100 levels of nesting: past feeler._limits.MAX_DEPTH
