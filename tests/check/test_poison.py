@@ -142,6 +142,7 @@ def test_approve_reads_allowed_hosts_from_the_config(tmp_path: Path, monkeypatch
     from feeler.cli import run
 
     monkeypatch.chdir(tmp_path)
+    monkeypatch.delenv("PYTEST_XDIST_WORKER", raising=False)  # a worker never writes baselines; this test is the writer
     new = tmp_path / "new.json"
     new.write_text(json.dumps(_catalog("Explain the tide table. Guide: https://docs.saltmarsh.example/tides").to_json()),
                    encoding="utf-8")
