@@ -8,6 +8,7 @@ Public API only; the code lives in the private modules and in the keyword tables
 
 from __future__ import annotations
 
+from feeler.generate._fast import GeneratorBugWarning
 from feeler.generate._model import compile_schema
 from feeler.generate._schema import DEFAULT_RECURSION_DEPTH, DIALECTS, ToolSchema
 from feeler.generate.boundaries import BOUNDARIES
@@ -22,6 +23,7 @@ __all__ = [
     "DIALECTS",
     "MUTATORS",
     "Case",
+    "GeneratorBugWarning",
     "KeywordCoverage",
     "Probe",
     "Tally",

@@ -3,26 +3,37 @@
 hypothesis spends most of a draw on its own bookkeeping (choice sequences, health checks, the
 ``@given`` loop), which caps drawn go cases at a few hundred per second. Here each shape of the
 compiled model (:mod:`._model`) becomes one small sampler (a closure ``rng -> value``), made once; a
-case is one call of the root sampler plus one oracle check (``ToolSchema.is_valid``). A shape that is
-not satisfied by construction (:attr:`~._model.Shape.exact` false: ``not``, ``if``, ``contains``...)
-is sampled from its merged keywords and filtered by its own oracle; a shape that still cannot be
-sampled draws from a small pool of hypothesis values made once per shape
-(:func:`~feeler.generate._strategies.searched_examples`).
-Every returned value passed the oracle; the same seed gives the same values.
+case is one call of the root sampler. A shape that is not satisfied by construction
+(:attr:`~._model.Shape.exact` false: ``not``, ``if``, ``contains``...) is sampled from its merged
+keywords and filtered by its own oracle; a shape that still cannot be sampled draws from a small pool
+of hypothesis values made once per shape (:func:`~feeler.generate._strategies.searched_examples`).
+
+The oracle (``ToolSchema.is_valid``, the whole schema) guards the values as follows. When the root
+shape is not exact, every value is checked. When it is exact, the values are valid by construction and
+the oracle audits every :data:`AUDIT_EVERY`-th one (the first included): whole-schema validation costs
+several times the draw itself, and sampled cases are the hot path of a campaign. A value the audit
+refuses is a bug in feeler's samplers: it is dropped, the values kept so far are checked one by one,
+every later value of that schema is checked too, and the disagreement is said once (a
+:class:`GeneratorBugWarning` warning; :func:`sampler_mismatch`). Whatever the audit saw, the runner
+proves a sampled go case with the oracle before any finding from it is recorded
+(``Runner._refuted``), and the property tests hold the samplers' values to an independent validator.
+The same seed gives the same values.
 """
 
 from __future__ import annotations
 
 import copy
+import json
 import math
 import random
 import re
 import string
+import warnings
 from collections.abc import Callable
 from decimal import Decimal
 from typing import Any
 
-from feeler._json import canonical_dumps
+from feeler._json import canonical_dumps, canonical_value
 from feeler.generate import _ecma
 from feeler.generate._formats import FORMAT_SAMPLES
 from feeler.generate._model import Shape, model_of
@@ -30,7 +41,7 @@ from feeler.generate._regex import _c, _p, regex_example
 from feeler.generate._schema import ToolSchema
 from feeler.generate._strategies import Unbuildable, searched_examples
 
-__all__ = ["Miss", "ObjectPlan", "fast_values", "sampler_for", "typed_sampler"]
+__all__ = ["AUDIT_EVERY", "GeneratorBugWarning", "Miss", "ObjectPlan", "fast_values", "sampler_for", "sampler_mismatch", "typed_sampler"]
 
 Sampler = Callable[[random.Random], Any]
 
@@ -50,6 +61,14 @@ _PRINTABLE = "".join(chr(c) for c in range(32, 127))
 _WIDE = "éßøΩжあ中🙂"
 _KEY_CHARS = string.ascii_lowercase + "_"
 _LABEL = string.ascii_lowercase + string.digits
+#: With an exact root shape, the oracle checks every AUDIT_EVERY-th value (see the module docstring).
+AUDIT_EVERY = 16
+
+
+class GeneratorBugWarning(UserWarning):
+    """feeler's oracle refused a value feeler's own generator made as valid (a sampler's value built as
+    valid by construction, or a go case's arguments): a bug in feeler, please report it with the schema.
+    Such a value is dropped or gives no finding."""
 
 
 class _Miss(Exception):
@@ -78,15 +97,20 @@ def sampler_for(shape: Shape, pool: bool = True) -> Sampler:
 
 
 def fast_values(ts: ToolSchema, count: int, rng: random.Random) -> tuple[list[Any], int]:
-    """Up to *count* oracle-checked values for the whole schema, and how many candidates were refused.
+    """Up to *count* values for the whole schema, and how many candidates were refused.
 
-    Stops early (returning fewer) when the refusals outnumber the accepted values by far: the caller
-    then fills the rest from hypothesis.
+    Values of an exact root shape are valid by construction and audited by the oracle (every
+    :data:`AUDIT_EVERY`-th one); other values are each checked (see the module docstring). Stops early
+    (returning fewer) when the refusals outnumber the accepted values by far: the caller then fills the
+    rest from hypothesis.
     """
-    root = sampler_for(model_of(ts).root_shape)
+    shape = model_of(ts).root_shape
+    root = sampler_for(shape)
+    audit = AUDIT_EVERY if shape.exact and sampler_mismatch(ts) is None else 1
     out: list[Any] = []
     seen: set[str] = set()
     refused = 0
+    made = 0  # values built (and not refused) so far: the audit's clock
     budget = 20 * count + 50
     while len(out) < count and budget > 0:
         budget -= 1
@@ -95,16 +119,47 @@ def fast_values(ts: ToolSchema, count: int, rng: random.Random) -> tuple[list[An
         except (_Miss, Unbuildable):
             refused += 1
             continue
-        if not ts.is_valid(value):
+        if made % audit == 0 and not ts.is_valid(value):
             refused += 1
+            if audit > 1:  # valid by construction, yet refused: say so, and trust the construction no more
+                _mismatch(ts, shape, value)
+                audit = 1
+                kept = [v for v in out if ts.is_valid(v)]  # the values so far, checked one by one now
+                refused += len(out) - len(kept)
+                out[:] = kept
             continue
+        made += 1
         # Prefer a new value, but accept a repeat now and then: small enums have few values.
-        key = canonical_dumps(value)
+        key = _value_key(value)
         if key in seen and rng.random() < 0.9:
             continue
         seen.add(key)
         out.append(value)
     return out, refused
+
+
+def _value_key(value: Any) -> str:
+    """A canonical text of *value* (equal for the values :func:`~feeler._json.canonical_dumps` writes
+    alike), compact and written by the C encoder: only a float like ``2.0`` needs the canonical pass."""
+    text = json.dumps(value, sort_keys=True, separators=(",", ":"), ensure_ascii=False)
+    if "." in text:  # a whole float (2.0) is written with a dot below 2**53; canonical_dumps writes it as 2
+        text = json.dumps(canonical_value(value), sort_keys=True, separators=(",", ":"), ensure_ascii=False)
+    return text
+
+
+def sampler_mismatch(ts: ToolSchema) -> str | None:
+    """Why the oracle no longer trusts the root sampler of *ts* (a value built as valid was refused), or
+    None while every audit agreed."""
+    return model_of(ts).root_shape.__dict__.get("_mismatch")
+
+
+def _mismatch(ts: ToolSchema, shape: Shape, value: Any) -> None:
+    errors = ts.errors(value)
+    why = errors[0].message if errors else "refused"
+    note = (f"{ts.where}feeler's sampler built a value the schema refuses ({why[:200]}): a bug in feeler's "
+            f"generator, please report it with the schema; every value of this schema is now checked")
+    shape.__dict__["_mismatch"] = note
+    warnings.warn(note, GeneratorBugWarning, stacklevel=3)
 
 
 # -- compilation ---------------------------------------------------------------------------------------

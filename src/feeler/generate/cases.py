@@ -340,10 +340,16 @@ def drawn_cases(schema: Any, count: int, *, seed: int = 0, recursion_depth: int 
 
 
 def fast_go_cases(schema: Any, count: int, *, seed: int = 0, recursion_depth: int | None = None) -> list[Case]:
-    """*count* go cases built by a seeded sampler outside hypothesis' engine, each checked by the oracle.
+    """*count* go cases built by a seeded sampler outside hypothesis' engine, valid by construction or
+    checked by the oracle.
 
     The compiled model gives one sampler per shape (:mod:`._fast`); values come from
-    ``random.Random(seed)``, so the same seed gives the same cases. If the sampler cannot fill
+    ``random.Random(seed)``, so the same seed gives the same cases. Where the whole schema's shape is
+    exact (:attr:`~._model.Shape.exact`) the values are valid by construction and the oracle audits a
+    fixed share of them (every :data:`~._fast.AUDIT_EVERY`-th); a refused one is dropped, said once
+    (:class:`~._fast.SamplerMismatch`) and from then on every value of the schema is checked. Elsewhere
+    every value is checked. The runner proves a case with the oracle before any finding from it is
+    recorded, so a sampler bug costs cases, never a wrong finding. If the sampler cannot fill
     *count* (a shape it cannot build and a pool hypothesis could not fill), the rest is drawn from
     :func:`arguments` under the same seed. For shrinking and the example database use
     :func:`arguments` in a ``@given`` test instead.
