@@ -59,7 +59,7 @@ MAX_PAGES = 1000
 MAX_MESSAGE_DEPTH = 512
 
 
-@dataclass(frozen=True)
+@dataclass(frozen=True, slots=True)
 class Frame:
     """One message on the wire.
 
@@ -142,22 +142,26 @@ class Exchange:
 
     @property
     def result(self) -> Any:
-        return self.response.get("result") if isinstance(self.response, dict) else None
+        response = self.response
+        return response.get("result") if isinstance(response, dict) else None
 
     @property
     def error(self) -> dict[str, Any] | None:
-        err = self.response.get("error") if isinstance(self.response, dict) else None
+        response = self.response
+        err = response.get("error") if isinstance(response, dict) else None
         return err if isinstance(err, dict) else None
 
     @property
     def is_error_result(self) -> bool:
         """A tool result with ``isError: true`` (a tool execution error, not a protocol error)."""
-        return isinstance(self.result, dict) and self.result.get("isError") is True
+        result = self.result
+        return isinstance(result, dict) and result.get("isError") is True
 
     @property
     def input_required(self) -> bool:
         """A 2026-07-28 ``InputRequiredResult`` (MCP 2026-07-28 basic/patterns/mrtr)."""
-        return isinstance(self.result, dict) and self.result.get("resultType") == "input_required"
+        result = self.result
+        return isinstance(result, dict) and result.get("resultType") == "input_required"
 
 
 def _too_deep(text: str, value: Any) -> bool:

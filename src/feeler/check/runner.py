@@ -10,6 +10,7 @@ hide the rest; a tool that hangs twice is not called again in that run.
 from __future__ import annotations
 
 import bisect
+import functools
 import json
 import os
 import random
@@ -943,17 +944,23 @@ LATENCY_SAMPLE = 4096
 _sampler = random.Random(0)
 
 
+@functools.cache
+def _latency_bounds() -> tuple[float, ...]:
+    from feeler.report.document import LATENCY_BOUNDS  # imported on first use (the report layer is heavier)
+
+    return LATENCY_BOUNDS
+
+
 def note_duration(stats: ToolStats, seconds: float, kind: str) -> None:
     """Count one call's duration: in the time per case kind, exactly in the fixed-bound histogram, and in
     the bounded uniform sample the percentiles come from (reservoir sampling, Vitter's algorithm R), so
     memory stays flat."""
-    from feeler.report.document import LATENCY_BOUNDS
-
+    bounds = _latency_bounds()
     stats.seconds[kind] = stats.seconds.get(kind, 0.0) + seconds
 
     if not stats.latency_buckets:
-        stats.latency_buckets = [0] * (len(LATENCY_BOUNDS) + 1)
-    stats.latency_buckets[bisect.bisect_left(LATENCY_BOUNDS, seconds)] += 1
+        stats.latency_buckets = [0] * (len(bounds) + 1)
+    stats.latency_buckets[bisect.bisect_left(bounds, seconds)] += 1
     stats.latency_count += 1
     if stats.latency_max is None or seconds > stats.latency_max:
         stats.latency_max = seconds
