@@ -134,34 +134,52 @@ class Exchange:
     started: float = field(default_factory=time.monotonic)
     finished: float | None = None
     http_status: int | None = None
+    #: what the properties below read from ``response``, worked out once per response object (the checks
+    #: ask for them dozens of times per call; a response is never changed in place)
+    _read: tuple[Any, ...] | None = field(default=None, init=False, repr=False, compare=False)
 
     @property
     def duration(self) -> float:
         """Seconds from sending to the answer (or to now, if none came)."""
         return (self.finished or time.monotonic()) - self.started
 
+    def _parts(self) -> tuple[Any, ...]:
+        """(response, result, error, isError, input_required) for the current ``response``."""
+        response = self.response
+        read = self._read
+        if read is not None and read[0] is response:
+            return read
+        result = err = None
+        if isinstance(response, dict):
+            result = response.get("result")
+            err = response.get("error")
+        final = isinstance(result, dict)
+        read = self._read = (
+            response,
+            result,
+            err if isinstance(err, dict) else None,
+            final and result.get("isError") is True,
+            final and result.get("resultType") == "input_required",
+        )
+        return read
+
     @property
     def result(self) -> Any:
-        response = self.response
-        return response.get("result") if isinstance(response, dict) else None
+        return self._parts()[1]
 
     @property
     def error(self) -> dict[str, Any] | None:
-        response = self.response
-        err = response.get("error") if isinstance(response, dict) else None
-        return err if isinstance(err, dict) else None
+        return self._parts()[2]
 
     @property
     def is_error_result(self) -> bool:
         """A tool result with ``isError: true`` (a tool execution error, not a protocol error)."""
-        result = self.result
-        return isinstance(result, dict) and result.get("isError") is True
+        return self._parts()[3]
 
     @property
     def input_required(self) -> bool:
         """A 2026-07-28 ``InputRequiredResult`` (MCP 2026-07-28 basic/patterns/mrtr)."""
-        result = self.result
-        return isinstance(result, dict) and result.get("resultType") == "input_required"
+        return self._parts()[4]
 
 
 def _too_deep(text: str, value: Any) -> bool:

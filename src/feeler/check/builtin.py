@@ -151,11 +151,46 @@ def _shape_errors(method: str, revision: str, result: Any) -> list[str]:
     validator = _shape_validator(method, revision)
     if validator is None:
         return []
+    form = _text_form(result)
+    if form is not None:
+        key = (method, revision, form)
+        known = _TEXT_FORM_VERDICTS.get(key)
+        if known is not None:
+            return list(known)
     try:
         validator.validate_python(result, by_name=False)
     except ValidationError as exc:
-        return [f"{'.'.join(str(p) for p in e['loc'])}: {e['msg']}" for e in exc.errors()[:3]]
-    return []
+        errors = [f"{'.'.join(str(p) for p in e['loc'])}: {e['msg']}" for e in exc.errors()[:3]]
+    else:
+        errors = []
+    if form is not None and len(_TEXT_FORM_VERDICTS) < 256:
+        _TEXT_FORM_VERDICTS[key] = tuple(errors)
+    return errors
+
+
+#: mcp-types' verdict per (method, revision, text form): see _text_form
+_TEXT_FORM_VERDICTS: dict[tuple[str, str, tuple[int, Any]], tuple[str, ...]] = {}
+
+
+def _text_form(result: Any) -> tuple[int, Any] | None:
+    """The form of the most common tool result, text blocks only: ``{"content": [{"type": "text", "text":
+    "..."}, ...]}`` with or without a boolean ``isError``, nothing else. mcp-types constrains ``text`` to
+    be a string and nothing more (TextContent), so every result of one form gets the same verdict, and
+    the runner asks pydantic once per form and revision. The form is the number of blocks and the
+    ``isError`` value (None when absent); None for any other result (validated as it is)."""
+    if type(result) is not dict:
+        return None
+    size = len(result)
+    is_error = result.get("isError")
+    if not (size == 1 or (size == 2 and type(is_error) is bool)):
+        return None
+    content = result.get("content")
+    if type(content) is not list:
+        return None
+    for block in content:
+        if type(block) is not dict or len(block) != 2 or block.get("type") != "text" or type(block.get("text")) is not str:
+            return None
+    return len(content), is_error
 
 
 @register("result_shape", applies_to=("go", "no-go"), reference="MCP <revision> server/tools (CallToolResult); mcp-types")

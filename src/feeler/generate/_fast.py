@@ -362,22 +362,29 @@ _TRICKY = (
 )
 
 
-def _text(rng: random.Random, low: int, high: int) -> str:
+_ODD_MIX = _ODD + _ASCII + _WIDE
+_WIDE_MIX = _ASCII + _WIDE + " "
+
+
+def _text(rng: random.Random, low: int, high: int, tricky: list[str] | None = None) -> str:
     """A string of *low* to *high* code points: mostly letters and digits (what a schema's examples look
-    like), often printable ASCII with its punctuation, sometimes odd characters or a known tricky string."""
+    like), often printable ASCII with its punctuation, sometimes odd characters or a known tricky string
+    (*tricky*: those of :data:`_TRICKY` whose length fits, when the caller worked them out already)."""
     roll = rng.random()
     if roll < 0.1:
-        tricky = [t for t in _TRICKY if low <= len(t) <= high]
+        if tricky is None:
+            tricky = [t for t in _TRICKY if low <= len(t) <= high]
         if tricky:
             return rng.choice(tricky)
     size = rng.randint(low, high)
+    choice = rng.choice
     if roll < 0.25:
-        return "".join(rng.choice(_ODD + _ASCII + _WIDE) for _ in range(size))
+        return "".join([choice(_ODD_MIX) for _ in range(size)])
     if roll < 0.5:
-        return "".join(rng.choice(_PRINTABLE) for _ in range(size))
+        return "".join([choice(_PRINTABLE) for _ in range(size)])
     if roll < 0.6:
-        return "".join(rng.choice(_ASCII + _WIDE + " ") for _ in range(size))
-    return "".join(rng.choice(_ASCII) for _ in range(size))
+        return "".join([choice(_WIDE_MIX) for _ in range(size)])
+    return "".join([choice(_ASCII) for _ in range(size)])
 
 
 def _string(shape: Shape) -> Sampler:
@@ -420,7 +427,8 @@ def _text_sampler(low: int, high: int | None, formats: list[str], patterns: list
 
         return matching
     top = high if high is not None else low + 2 * _SPAN
-    return lambda rng: _text(rng, low, top)
+    tricky = [t for t in _TRICKY if low <= len(t) <= top]
+    return lambda rng: _text(rng, low, top, tricky)
 
 
 def _tried(maker: Sampler, ok: Callable[[Any], bool]) -> Sampler:
