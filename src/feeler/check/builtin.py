@@ -46,6 +46,24 @@ def _error_texts(ctx: CallContext) -> list[str]:
     return _texts(ex.result) if ex.is_error_result else []
 
 
+# -- preconditions (register(..., when=...)): each is the guard its check starts with -------------------
+
+
+def _refused(ctx: CallContext) -> bool:
+    """The answer is an error or an ``isError`` result (what _error_texts reads)."""
+    ex = ctx.exchange
+    return ex is not None and (ex.error is not None or ex.is_error_result)
+
+
+def _failed_or_refused(ctx: CallContext) -> bool:
+    return ctx.failure is not None or _refused(ctx)
+
+
+def _has_result(ctx: CallContext) -> bool:
+    ex = ctx.exchange
+    return ex is not None and isinstance(ex.result, dict)
+
+
 def _pointer(path: str | None) -> str:
     from feeler._json import to_pointer
 
@@ -193,7 +211,8 @@ def _text_form(result: Any) -> tuple[int, Any] | None:
     return len(content), is_error
 
 
-@register("result_shape", applies_to=("go", "no-go"), reference="MCP <revision> server/tools (CallToolResult); mcp-types")
+@register("result_shape", applies_to=("go", "no-go"), reference="MCP <revision> server/tools (CallToolResult); mcp-types",
+          when=_has_result)
 def result_shape(ctx: CallContext) -> Iterator[Problem]:
     """A tools/call result has the shape the negotiated protocol version defines (content blocks, isError, resultType)."""
     ex = ctx.exchange
@@ -206,7 +225,7 @@ def result_shape(ctx: CallContext) -> Iterator[Problem]:
 # -- go and no-go verdicts --------------------------------------------------------------------------
 
 
-@register("go_enters", applies_to=("go",), reference="MCP 2025-11-25 server/tools (error handling)")
+@register("go_enters", applies_to=("go",), reference="MCP 2025-11-25 server/tools (error handling)", when=_refused)
 def go_enters(ctx: CallContext) -> Iterator[Problem]:
     """A go case enters: arguments the input schema accepts are accepted: -32602 on a go case means schema and code disagree."""
     ex = ctx.exchange
@@ -224,7 +243,8 @@ def go_enters(ctx: CallContext) -> Iterator[Problem]:
         yield Problem(f"valid arguments{_where(ctx)} got isError: {text}", error_class="is-error")
 
 
-@register("bounds_honoured", applies_to=("go",), reference="JSON Schema 2020-12 validation sections 6.2-6.4")
+@register("bounds_honoured", applies_to=("go",), reference="JSON Schema 2020-12 validation sections 6.2-6.4",
+          when=lambda ctx: ctx.base == "entered")
 def bounds_honoured(ctx: CallContext) -> Iterator[Problem]:
     """A value exactly on a bound the schema allows (minimum, maxLength...) is not refused with ``isError``
     when the same arguments one step inside the bound (the base) are accepted."""
@@ -263,7 +283,8 @@ def nogo_stops(ctx: CallContext) -> Iterator[Problem]:
         )
 
 
-@register("no_crash", applies_to=("go", "no-go"), reference="common practice: a tool reports failures, it does not crash")
+@register("no_crash", applies_to=("go", "no-go"), reference="common practice: a tool reports failures, it does not crash",
+          when=_failed_or_refused)
 def no_crash(ctx: CallContext) -> Iterator[Problem]:
     """A call never ends in an unhandled exception: no exception class, traceback line, SDK crash text
     ("Error executing tool NAME" alone) or interpreter wording ("unterminated character set", "object has
@@ -295,7 +316,8 @@ _TRACES = {
     "java-stack": re.compile(r"\bat [\w$.]+\([\w$]+\.java:\d+\)|Exception in thread \""),
     "go-panic": re.compile(r"goroutine \d+ \[|\bpanic: "),
 }
-@register("no_leaks", applies_to=("go", "no-go", "probe"), reference="common practice (OWASP: error handling); MCP 2025-11-25 server/tools security")
+@register("no_leaks", applies_to=("go", "no-go", "probe"), reference="common practice (OWASP: error handling); MCP 2025-11-25 server/tools security",
+          when=_refused)
 def no_leaks(ctx: CallContext) -> Iterator[Problem]:
     """Errors leak no internals: stack traces (Python, JavaScript, Java, Go), absolute file paths (but for
     those the user gave: the target's command line and working folder, the arguments sent), secrets."""
@@ -318,7 +340,8 @@ def no_leaks(ctx: CallContext) -> Iterator[Problem]:
 # -- structured output --------------------------------------------------------------------------------
 
 
-@register("output_schema", applies_to=("go",), reference="MCP 2025-06-18 server/tools (output schema); JSON Schema 2020-12; jsonschema")
+@register("output_schema", applies_to=("go",), reference="MCP 2025-06-18 server/tools (output schema); JSON Schema 2020-12; jsonschema",
+          when=lambda ctx: ctx.tool is not None and ctx.tool.output_schema is not None)
 def output_schema(ctx: CallContext) -> Iterator[Problem]:
     """A tool with an outputSchema returns ``structuredContent`` that validates against it."""
     from feeler.check.schemas import SlowPattern, output_validator, validation_errors
@@ -359,7 +382,8 @@ def output_schema(ctx: CallContext) -> Iterator[Problem]:
         )
 
 
-@register("output_mirrored", applies_to=("go",), severity="warning", reference="MCP 2025-06-18 server/tools (structured content): SHOULD")
+@register("output_mirrored", applies_to=("go",), severity="warning", reference="MCP 2025-06-18 server/tools (structured content): SHOULD",
+          when=lambda ctx: _has_result(ctx) and "structuredContent" in ctx.exchange.result)  # type: ignore[union-attr]
 def output_mirrored(ctx: CallContext) -> Iterator[Problem]:
     """``structuredContent`` is also given as serialized JSON in a text block (a SHOULD)."""
     ex = ctx.exchange
@@ -387,7 +411,8 @@ def server_alive(ctx: CallContext) -> Iterator[Problem]:
         yield Problem(f"the liveness request failed: {ctx.exchange.error.get('message')!r}", error_class="ping-error")
 
 
-@register("latency", applies_to=("go", "no-go"), reference="common practice: a per-tool latency budget")
+@register("latency", applies_to=("go", "no-go"), reference="common practice: a per-tool latency budget",
+          when=lambda ctx: bool(ctx.settings.latency_budget))
 def latency(ctx: CallContext) -> Iterator[Problem]:
     """Every call answers within the tool's latency budget (when one is configured)."""
     ex, tool = ctx.exchange, ctx.tool

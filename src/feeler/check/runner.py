@@ -835,7 +835,10 @@ class Runner:
         for check in checks:
             if only is not None and check.name not in only:
                 continue
-            problems = check.run(ctx)
+            when = check.when
+            if when is not None and not when(ctx):
+                continue  # the check's own first guard: nothing to find on this call
+            problems = check.problems(ctx)
             if problems:
                 found.append((check.name, problems))
         if found and ctx.kind == "go" and self._refuted(ctx):
