@@ -21,6 +21,7 @@ from dataclasses import dataclass, field
 from typing import Any
 
 from feeler import __version__
+from feeler._json import compact_dumps
 from feeler.errors import (
     HandshakeError,
     RemoteProtocolError,
@@ -432,7 +433,7 @@ class Session:
     def _send(
         self, message: dict[str, Any], *, method: str, request_id: Any, revision: str | None = None, timeout: float | None = None
     ) -> Exchange:
-        text = json.dumps(message, ensure_ascii=False, separators=(",", ":"))
+        text = compact_dumps(message)
         ex = Exchange(method=method, request_id=request_id, request_text=text, request=message)
         self._write(ex, text, self.headers_for(message, revision=revision), timeout)
         return ex

@@ -198,3 +198,24 @@ def test_an_exact_schema_is_not_validated_value_by_value(monkeypatch: pytest.Mon
     calls[0] = 0
     assert fast_values(ToolSchema(schema), 4 * AUDIT_EVERY, random.Random(9)) == (values, 0)
     assert calls[0] >= 4 * AUDIT_EVERY
+
+
+def test_inlined_character_choice_is_random_choice() -> None:
+    """The text sampler draws characters with Random.getrandbits the way Random.choice does (Python's
+    random module, CPython's _randbelow_with_getrandbits): the same characters and the same state after,
+    for any alphabet size, so the seeded values do not depend on which path drew them."""
+    from feeler.generate._fast import _chars
+
+    for alphabet in ("a", "ab", "abc", "0123456789", "".join(chr(c) for c in range(32, 127)), "éßøΩжあ中🙂"):
+        for seed in range(20):
+            fast, slow = random.Random(seed), random.Random(seed)
+            expected = "".join(slow.choice(alphabet) for _ in range(seed % 13))
+            assert _chars(fast, alphabet, seed % 13) == expected
+            assert fast.random() == slow.random()
+
+    class OwnRandom(random.Random):  # overriding random() gives another _randbelow: the plain path
+        def random(self) -> float:
+            return super().random()
+
+    mine, theirs = OwnRandom(3), OwnRandom(3)
+    assert _chars(mine, "xyz", 9) == "".join(theirs.choice("xyz") for _ in range(9))

@@ -43,9 +43,13 @@ def call_outcome(ctx: Any) -> str:
     return "broke"
 
 
+#: the encoders, made once (json.dumps makes one per call when given options)
+_CANONICAL = json.JSONEncoder(sort_keys=True, separators=(",", ":"), ensure_ascii=False, default=str).encode
+_LINE = json.JSONEncoder(ensure_ascii=False, separators=(",", ":"), default=str).encode
+
+
 def _digest(arguments: Any) -> str:
-    text = json.dumps(arguments, sort_keys=True, separators=(",", ":"), ensure_ascii=False, default=str)
-    return hashlib.sha256(text.encode("utf-8")).hexdigest()[:16]
+    return hashlib.sha256(_CANONICAL(arguments).encode("utf-8")).hexdigest()[:16]
 
 
 def _utf8_size(text: str) -> int:
@@ -80,7 +84,7 @@ class CallLog:
     def write(self, record: dict[str, Any]) -> None:
         if self._file is None:
             return
-        self._file.write(json.dumps(record, ensure_ascii=False, separators=(",", ":"), default=str) + "\n")
+        self._file.write(_LINE(record) + "\n")
         self.lines += 1
         now = time.monotonic()
         if now - self._flushed >= FLUSH_EVERY:
