@@ -151,6 +151,11 @@ def _shape_validator(method: str, revision: str) -> Any:
 
 
 def _shape_errors(method: str, revision: str, result: Any) -> list[str]:
+    form = _text_form(result)
+    if form is not None:  # the common answer: its form's verdict, when mcp-types gave it already
+        known = _TEXT_FORM_VERDICTS.get((method, revision, form))
+        if known is not None:
+            return list(known)
     from pydantic import ValidationError
 
     if isinstance(result, dict) and result.get("resultType") == "input_required":
@@ -169,12 +174,6 @@ def _shape_errors(method: str, revision: str, result: Any) -> list[str]:
     validator = _shape_validator(method, revision)
     if validator is None:
         return []
-    form = _text_form(result)
-    if form is not None:
-        key = (method, revision, form)
-        known = _TEXT_FORM_VERDICTS.get(key)
-        if known is not None:
-            return list(known)
     try:
         validator.validate_python(result, by_name=False)
     except ValidationError as exc:
@@ -182,7 +181,7 @@ def _shape_errors(method: str, revision: str, result: Any) -> list[str]:
     else:
         errors = []
     if form is not None and len(_TEXT_FORM_VERDICTS) < 256:
-        _TEXT_FORM_VERDICTS[key] = tuple(errors)
+        _TEXT_FORM_VERDICTS[(method, revision, form)] = tuple(errors)
     return errors
 
 
