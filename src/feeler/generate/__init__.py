@@ -1,4 +1,5 @@
-"""Go and no-go arguments from a tool's input schema, each proven by the oracle (``jsonschema``).
+"""Go and no-go arguments from a tool's input schema, each proven by the oracle (``jsonschema``); sampled go
+arguments of an exact schema are valid by construction, the oracle auditing a share (``fast_go_cases``).
 
 Public API only; the code lives in the private modules and in the keyword tables
 (:data:`~feeler.generate.mutators.MUTATORS`, :data:`~feeler.generate.boundaries.BOUNDARIES`)::
