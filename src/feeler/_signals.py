@@ -25,8 +25,6 @@ import os
 import signal
 import sys
 import threading
-from collections.abc import Iterator
-from contextlib import contextmanager
 from typing import Any
 
 __all__ = ["Stopped", "held", "install"]
@@ -65,25 +63,39 @@ def _handler(signum: int, frame: Any) -> None:
     raise Stopped(signum)
 
 
-@contextmanager
-def held() -> Iterator[None]:
+class _Held:
+    """What :func:`held` returns: a plain class rather than a generator-based context manager, since it is
+    entered once per call on the sampled-case loop (no state of its own: the depth is module-wide)."""
+
+    __slots__ = ()
+
+    def __enter__(self) -> None:
+        global _holding
+        if threading.get_ident() == _MAIN:
+            _holding += 1
+
+    def __exit__(self, *exc: object) -> bool:
+        global _holding, _pending
+        if threading.get_ident() != _MAIN:
+            return False
+        _holding -= 1
+        if not _holding and _pending is not None:  # the stop outranks whatever else ends the block
+            signum, _pending = _pending, None
+            raise Stopped(signum)
+        return False
+
+
+_MAIN = threading.main_thread().ident
+_HELD = _Held()
+
+
+def held() -> _Held:
     """Keep a SIGINT/SIGTERM/SIGHUP that arrives inside the block and raise it (as :class:`Stopped`) at its end.
 
     For short bookkeeping only (counting a finished call and logging it): the block is not interrupted
     halfway, so counts and logs agree. Outside the main thread it does nothing (no handler runs there).
     """
-    global _holding, _pending
-    if threading.current_thread() is not threading.main_thread():
-        yield
-        return
-    _holding += 1
-    try:
-        yield
-    finally:
-        _holding -= 1
-        if not _holding and _pending is not None:  # the stop outranks whatever else ends the block
-            signum, _pending = _pending, None
-            raise Stopped(signum)
+    return _HELD
 
 
 #: how long after a swallowed stop the signal is sent again (the swallowing callback has returned by then)

@@ -21,6 +21,7 @@ from dataclasses import dataclass, field
 from typing import Any
 
 from feeler import __version__
+from feeler._json import compact_dumps
 from feeler.errors import (
     HandshakeError,
     RemoteProtocolError,
@@ -59,7 +60,7 @@ MAX_PAGES = 1000
 MAX_MESSAGE_DEPTH = 512
 
 
-@dataclass(frozen=True)
+@dataclass(frozen=True, slots=True)
 class Frame:
     """One message on the wire.
 
@@ -134,30 +135,52 @@ class Exchange:
     started: float = field(default_factory=time.monotonic)
     finished: float | None = None
     http_status: int | None = None
+    #: what the properties below read from ``response``, worked out once per response object (the checks
+    #: ask for them dozens of times per call; a response is never changed in place)
+    _read: tuple[Any, ...] | None = field(default=None, init=False, repr=False, compare=False)
 
     @property
     def duration(self) -> float:
         """Seconds from sending to the answer (or to now, if none came)."""
         return (self.finished or time.monotonic()) - self.started
 
+    def _parts(self) -> tuple[Any, ...]:
+        """(response, result, error, isError, input_required) for the current ``response``."""
+        response = self.response
+        read = self._read
+        if read is not None and read[0] is response:
+            return read
+        result = err = None
+        if isinstance(response, dict):
+            result = response.get("result")
+            err = response.get("error")
+        final = isinstance(result, dict)
+        read = self._read = (
+            response,
+            result,
+            err if isinstance(err, dict) else None,
+            final and result.get("isError") is True,
+            final and result.get("resultType") == "input_required",
+        )
+        return read
+
     @property
     def result(self) -> Any:
-        return self.response.get("result") if isinstance(self.response, dict) else None
+        return self._parts()[1]
 
     @property
     def error(self) -> dict[str, Any] | None:
-        err = self.response.get("error") if isinstance(self.response, dict) else None
-        return err if isinstance(err, dict) else None
+        return self._parts()[2]
 
     @property
     def is_error_result(self) -> bool:
         """A tool result with ``isError: true`` (a tool execution error, not a protocol error)."""
-        return isinstance(self.result, dict) and self.result.get("isError") is True
+        return self._parts()[3]
 
     @property
     def input_required(self) -> bool:
         """A 2026-07-28 ``InputRequiredResult`` (MCP 2026-07-28 basic/patterns/mrtr)."""
-        return isinstance(self.result, dict) and self.result.get("resultType") == "input_required"
+        return self._parts()[4]
 
 
 def _too_deep(text: str, value: Any) -> bool:
@@ -410,7 +433,7 @@ class Session:
     def _send(
         self, message: dict[str, Any], *, method: str, request_id: Any, revision: str | None = None, timeout: float | None = None
     ) -> Exchange:
-        text = json.dumps(message, ensure_ascii=False, separators=(",", ":"))
+        text = compact_dumps(message)
         ex = Exchange(method=method, request_id=request_id, request_text=text, request=message)
         self._write(ex, text, self.headers_for(message, revision=revision), timeout)
         return ex

@@ -96,6 +96,50 @@ def test_result_shape_follows_the_negotiated_revision() -> None:
     assert _shape_errors("tools/call", "2026-07-28", {**result, "resultType": "complete"}) == []
 
 
+@pytest.mark.parametrize("revision", ["2024-11-05", "2025-06-18", "2025-11-25", "2026-07-28"])
+def test_result_shape_gives_mcp_types_verdict_for_every_text_only_result(revision: str) -> None:
+    """Results made only of text blocks get mcp-types' verdict asked once per form (the number of blocks,
+    isError), since TextContent constrains its text to be a string and nothing more. Every such result,
+    whatever its texts, gets exactly the verdict pydantic gives it directly (mcp-types as the reference);
+    results of any other shape are still validated one by one."""
+    from hypothesis import HealthCheck, given, settings
+    from hypothesis import strategies as st
+
+    from feeler.check.builtin import _shape_validator, _TEXT_FORM_VERDICTS, _shape_errors, _text_form
+
+    validator = _shape_validator("tools/call", revision)
+
+    def direct(result: dict) -> bool:
+        try:
+            validator.validate_python(result, by_name=False)
+        except Exception:  # noqa: BLE001 - pydantic's ValidationError: the reference says invalid
+            return False
+        return True
+
+    texts = st.text(max_size=20)
+    results = st.fixed_dictionaries(
+        {"content": st.lists(st.builds(lambda t: {"type": "text", "text": t}, texts), max_size=3)},
+        optional={"isError": st.booleans()},
+    )
+
+    @settings(max_examples=60, deadline=None, database=None, suppress_health_check=list(HealthCheck))
+    @given(results)
+    def same_verdict(result: dict) -> None:
+        assert _text_form(result) is not None
+        assert (not _shape_errors("tools/call", revision, result)) == direct(result)
+
+    _TEXT_FORM_VERDICTS.clear()
+    same_verdict()
+    assert any(key[1] == revision for key in _TEXT_FORM_VERDICTS)  # the verdicts were kept and reused
+    # Not the text form (another block type, an extra key, a non-boolean isError, a missing text): validated as is.
+    for other in ({"content": [{"type": "image", "data": "", "mimeType": "image/png"}]},
+                  {"content": [{"type": "text", "text": "a", "annotations": {"priority": 2}}]},
+                  {"content": [{"type": "text", "text": "a"}], "isError": "yes"},
+                  {"content": [{"type": "text"}]}, {"content": [], "structuredContent": {}}):  # fmt: skip
+        assert _text_form(other) is None
+        assert (not _shape_errors("tools/call", revision, other)) == direct(other)
+
+
 def test_check_reports_a_wrong_id_on_tools_call_as_an_envelope_finding() -> None:
     # JSON-RPC 2.0 section 5: the answer's id must echo the request's, type included. The session stops
     # waiting at once (an id it never sent), and the runner hands the answer to the envelope check.

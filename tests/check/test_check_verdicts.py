@@ -46,6 +46,31 @@ def test_go_enters_counts_is_error_and_flags_it_only_when_strict() -> None:
     assert classes(strict, "go_enters") == {"is-error"}
 
 
+def test_a_go_case_the_oracle_refuses_gives_no_finding(monkeypatch: pytest.MonkeyPatch) -> None:
+    """Sampled go cases are valid by construction and only audited by the oracle (feeler.generate
+    fast_go_cases), so the runner proves a go case before a finding from it is recorded. Here the fast
+    sampler is replaced by one that breaks the schema (``text`` must be a string: JSON Schema 2020-12
+    validation 6.1.1, jsonschema deciding): the clean server rightly answers isError (MCP 2025-11-25
+    server/tools error handling), which strict_go would report on a real go case. No finding; the cases
+    are counted as refuted and the bug is said once."""
+    import feeler.generate
+    from feeler.check.runner import HYPOTHESIS_SAMPLES
+    from feeler.generate import Case, GeneratorBugWarning
+
+    def wrong(schema, count, *, seed=0, recursion_depth=None):  # noqa: ANN001, ANN202 - fast_go_cases' signature
+        return [Case("go", None, "$", "", {"text": n}, None, "sampled", "sampled") for n in range(count)]
+
+    monkeypatch.setattr(feeler.generate, "fast_go_cases", wrong)
+    with pytest.warns(GeneratorBugWarning, match="its own oracle refuses") as said:
+        report = run_checks(faulty("clean"), ["go_enters"], samples=HYPOTHESIS_SAMPLES + 5, settings=CheckSettings(strict_go=True))
+    stats = report.tools["echo"]
+    assert stats.refuted_go == 5 and stats.go_is_error >= 5 and len(said) == 1
+    assert not list(report.findings)
+    # The same calls with valid arguments refused by isError are a finding under strict_go (the check works).
+    right = run_checks(faulty("always-is-error"), ["go_enters"], samples=1, settings=CheckSettings(strict_go=True))
+    assert classes(right, "go_enters") == {"is-error"} and right.tools["echo"].refuted_go == 0
+
+
 # -- gate_opens (common practice: a tool that refuses every valid input is broken) ------------
 
 

@@ -140,3 +140,82 @@ def test_nodes_the_sampler_cannot_build_fall_back_and_stay_valid() -> None:
     assert len(cases) == 50
     assert all(oracle.is_valid(c.arguments) for c in cases)  # jsonschema as the reference validator
     assert len({c.arguments["pick"] for c in cases}) > 5
+
+
+def test_an_exact_schema_is_audited_and_a_sampler_bug_is_caught() -> None:
+    """Values of an exact root shape are valid by construction, so the oracle audits every AUDIT_EVERY-th
+    one. A sampler made wrong on purpose (it returns arguments missing a required property at two draws,
+    one the audit skips and one it checks) is caught: a GeneratorBugWarning, the refused values dropped,
+    the values kept so far checked again, and every later value checked (jsonschema as the reference)."""
+    from feeler.generate import GeneratorBugWarning
+    from feeler.generate._fast import AUDIT_EVERY, sampler_for, sampler_mismatch
+    from feeler.generate._model import model_of
+
+    schema = {"type": "object", "properties": {"n": {"type": "integer", "minimum": 0, "maximum": 10**6}}, "required": ["n"]}
+    ts = ToolSchema(schema)
+    root = model_of(ts).root_shape
+    assert root.exact
+    good = sampler_for(root)
+    draws = [0]
+    wrong = {3, AUDIT_EVERY}  # draw 3 is not audited, draw AUDIT_EVERY is (the audit's clock starts at 0)
+
+    def broken(rng: random.Random) -> Any:
+        draws[0] += 1
+        return {} if draws[0] - 1 in wrong else good(rng)
+
+    root.__dict__["_sampler"] = broken
+    with pytest.warns(GeneratorBugWarning, match="refuses"):
+        values, refused = fast_values(ts, 3 * AUDIT_EVERY, random.Random(0))
+    oracle = reference_validator(schema)
+    assert len(values) == 3 * AUDIT_EVERY and all(oracle.is_valid(v) for v in values)
+    assert refused >= 2 and sampler_mismatch(ts) is not None
+    # From now on every value of this schema is checked: a wrong draw anywhere is refused, not kept.
+    wrong.update(range(draws[0], draws[0] + 2 * AUDIT_EVERY, 5))
+    values, refused = fast_values(ts, 2 * AUDIT_EVERY, random.Random(1))
+    assert all(oracle.is_valid(v) for v in values) and refused >= 6
+
+
+def test_an_exact_schema_is_not_validated_value_by_value(monkeypatch: pytest.MonkeyPatch) -> None:
+    """The audit's share: for an exact root shape the whole-schema oracle sees one value in AUDIT_EVERY
+    (the first included), and the values are the same as when every one is checked (same seed)."""
+    from feeler.generate._fast import AUDIT_EVERY
+
+    schema = {"type": "object", "properties": {"a": {"type": "string", "maxLength": 5}, "b": {"type": "boolean"}}, "required": ["a"]}
+    checked = ToolSchema(schema)
+    calls = [0]
+    real = ToolSchema.is_valid
+
+    def counting(self: ToolSchema, instance: Any) -> bool:
+        calls[0] += 1
+        return real(self, instance)
+
+    monkeypatch.setattr(ToolSchema, "is_valid", counting)
+    values, refused = fast_values(checked, 4 * AUDIT_EVERY, random.Random(9))
+    assert refused == 0 and calls[0] <= 4 + 1
+    oracle = reference_validator(schema)
+    assert all(oracle.is_valid(v) for v in values)  # jsonschema as the reference validator
+    monkeypatch.setattr("feeler.generate._fast.AUDIT_EVERY", 1)  # every value checked: the same values
+    calls[0] = 0
+    assert fast_values(ToolSchema(schema), 4 * AUDIT_EVERY, random.Random(9)) == (values, 0)
+    assert calls[0] >= 4 * AUDIT_EVERY
+
+
+def test_inlined_character_choice_is_random_choice() -> None:
+    """The text sampler draws characters with Random.getrandbits the way Random.choice does (Python's
+    random module, CPython's _randbelow_with_getrandbits): the same characters and the same state after,
+    for any alphabet size, so the seeded values do not depend on which path drew them."""
+    from feeler.generate._fast import _chars
+
+    for alphabet in ("a", "ab", "abc", "0123456789", "".join(chr(c) for c in range(32, 127)), "éßøΩжあ中🙂"):
+        for seed in range(20):
+            fast, slow = random.Random(seed), random.Random(seed)
+            expected = "".join(slow.choice(alphabet) for _ in range(seed % 13))
+            assert _chars(fast, alphabet, seed % 13) == expected
+            assert fast.random() == slow.random()
+
+    class OwnRandom(random.Random):  # overriding random() gives another _randbelow: the plain path
+        def random(self) -> float:
+            return super().random()
+
+    mine, theirs = OwnRandom(3), OwnRandom(3)
+    assert _chars(mine, "xyz", 9) == "".join(theirs.choice("xyz") for _ in range(9))

@@ -59,3 +59,54 @@ def test_learner_files_under_related_inputs_bounded() -> None:
     assert [v.value for v in values] == ["rec-0009", "rec-0008", "rec-0007", "rec-0006"]  # bounded, newest first
     assert values[0].source == "learned" and values[0].provenance == "create_record /structuredContent/id"
     assert [t.name for t in listings(tools)] == ["list_records"]
+
+
+def _pool_state(pool: ValuePool) -> list[tuple[object, list[tuple[str, str]]]]:
+    return [(key, [(text, v.provenance) for text, v in slot.items()]) for key, slot in pool._values.items()]
+
+
+def test_an_answer_identical_to_the_last_one_is_not_read_again() -> None:
+    """Reading the same answer again would file the same values in the same order; the learner skips it,
+    and the pool is exactly what reading it would leave. Not skipped: another tool, an answer equal only
+    under Python's == (1 and 1.0 and true are different JSON: RFC 8259 section 6 numbers vs literals;
+    key order changes the filing order), a pool someone else touched, or an answer whose reading evicted
+    a value (reading it again would evict again)."""
+    from feeler.world.learn import same_json
+
+    tools = [Tool({"name": "read_record", "inputSchema": {"type": "object", "properties": {
+        "record_id": {"type": "string"}, "count_id": {"type": "integer"}}}})]  # fmt: skip
+    answer = {"structuredContent": {"id": "rec-1", "count_id": 1}, "content": []}
+
+    def twice(first: dict, second: dict, between: object = None, per_key: int = 16) -> tuple[int, bool]:
+        skipping, reading = ValuePool(per_key=per_key), ValuePool(per_key=per_key)
+        learner, reader = Learner(skipping, tools), Learner(reading, tools)
+        for pool, who in ((skipping, learner), (reading, reader)):
+            who.learn("create_record", first)
+            if between is not None:
+                pool.add("record_id", between, source="learned", provenance="elsewhere")
+        adds = skipping.adds
+        learner.learn("create_record", second)
+        reader._last = None  # the reference reads every answer
+        reader.learn("create_record", second)
+        assert _pool_state(skipping) == _pool_state(reading)  # skipped or not, the same pool
+        return skipping.adds - adds, same_json(first, second)
+
+    assert twice(answer, json_copy(answer)) == (0, True)  # skipped: nothing added
+    assert twice(answer, {"structuredContent": {"id": "rec-1", "count_id": 1.0}, "content": []})[1] is False
+    assert twice(answer, {"structuredContent": {"id": "rec-1", "count_id": True}, "content": []})[1] is False
+    assert twice(answer, {"content": [], "structuredContent": {"count_id": 1, "id": "rec-1"}})[1] is False
+    assert twice(answer, json_copy(answer), between="rec-9")[0] > 0  # the pool changed in between: read again
+    many = {"structuredContent": {"records": [{"id": f"rec-{n}"} for n in range(6)]}, "content": []}
+    assert twice(many, json_copy(many), per_key=4)[0] > 0  # its reading evicted values: read again
+    pool = ValuePool()
+    learner = Learner(pool, tools)
+    learner.learn("create_record", answer)
+    adds = pool.adds
+    learner.learn("list_records", json_copy(answer))
+    assert pool.adds > adds  # another tool (another provenance): read again
+
+
+def json_copy(value: object) -> dict:
+    import json
+
+    return json.loads(json.dumps(value))

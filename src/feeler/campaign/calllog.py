@@ -12,6 +12,7 @@ from __future__ import annotations
 import hashlib
 import json
 import os
+import time
 from datetime import datetime, timezone
 from typing import IO, Any
 
@@ -42,14 +43,30 @@ def call_outcome(ctx: Any) -> str:
     return "broke"
 
 
+#: the encoders, made once (json.dumps makes one per call when given options)
+_CANONICAL = json.JSONEncoder(sort_keys=True, separators=(",", ":"), ensure_ascii=False, default=str).encode
+_LINE = json.JSONEncoder(ensure_ascii=False, separators=(",", ":"), default=str).encode
+
+
 def _digest(arguments: Any) -> str:
-    text = json.dumps(arguments, sort_keys=True, separators=(",", ":"), ensure_ascii=False, default=str)
-    return hashlib.sha256(text.encode("utf-8")).hexdigest()[:16]
+    return hashlib.sha256(_CANONICAL(arguments).encode("utf-8")).hexdigest()[:16]
+
+
+def _utf8_size(text: str) -> int:
+    return len(text) if text.isascii() else len(text.encode("utf-8"))
+
+
+#: the call log is flushed at least this often (seconds), besides when its buffer fills and at flush()/close()
+FLUSH_EVERY = 0.25
 
 
 class CallLog:
     """Append-only JSON Lines file. Opening it again continues it; a half-written last line (the process
     was killed mid-write) is cut off first, so every line of the file is whole JSON.
+
+    Lines are written as the calls end, through the file's buffer: it reaches the disk when it fills, at
+    least every :data:`FLUSH_EVERY` seconds, on :meth:`flush` (a campaign flushes before it saves its
+    state, so the state never counts a call the log does not have) and on :meth:`close`.
 
     Use :meth:`hook` as :attr:`feeler.check.runner.Runner.on_call`.
     """
@@ -60,29 +77,50 @@ class CallLog:
         _cut_partial_line(path)
         self._file: IO[str] | None = open(path, "a", encoding="utf-8", newline="\n")  # noqa: SIM115
         self.lines = 0
+        self._flushed = time.monotonic()
+        self._second = -1  # the whole second of the last time stamp, and its text (RFC 3339, UTC)
+        self._stamp = ""
 
     def write(self, record: dict[str, Any]) -> None:
         if self._file is None:
             return
-        self._file.write(json.dumps(record, ensure_ascii=False, separators=(",", ":"), default=str) + "\n")
-        self._file.flush()
+        self._file.write(_LINE(record) + "\n")
         self.lines += 1
+        now = time.monotonic()
+        if now - self._flushed >= FLUSH_EVERY:
+            self._file.flush()
+            self._flushed = now
+
+    def flush(self) -> None:
+        """Write every line so far to the file."""
+        if self._file is not None:
+            self._file.flush()
+            self._flushed = time.monotonic()
+
+    def _time(self) -> str:
+        """Now, as RFC 3339 UTC with milliseconds (``2026-12-04T09:28:44.123Z``); the seconds part is
+        formatted once per second."""
+        now = time.time()
+        second = int(now)
+        if second != self._second:
+            self._second = second
+            self._stamp = datetime.fromtimestamp(second, timezone.utc).strftime("%Y-%m-%dT%H:%M:%S")
+        return f"{self._stamp}.{int((now - second) * 1000):03d}Z"
 
     def hook(self, tool: Any, case: Any, ctx: Any, failed: list[str]) -> None:
         ex = ctx.exchange
-        answers = [f.text for f in ex.frames if f.direction == "in"] if ex is not None else []
         self.write(
             {
-                "time": datetime.now(timezone.utc).isoformat(timespec="milliseconds").replace("+00:00", "Z"),
+                "time": self._time(),
                 "tool": tool.name,
                 "kind": case.kind,
                 "source": case_source(case),
                 "argumentsDigest": _digest(case.arguments),
                 "outcome": call_outcome(ctx),
-                "checks": sorted(set(failed)),
+                "checks": sorted(set(failed)) if failed else [],
                 "durationSeconds": round(ex.duration, 6) if ex is not None and ex.finished is not None else None,
-                "requestBytes": len(ex.request_text.encode("utf-8")) if ex is not None else 0,
-                "answerBytes": sum(len(t.encode("utf-8")) for t in answers),
+                "requestBytes": _utf8_size(ex.request_text) if ex is not None else 0,
+                "answerBytes": sum(_utf8_size(f.text) for f in ex.frames if f.direction == "in") if ex is not None else 0,
             }
         )
 

@@ -335,6 +335,7 @@ class Campaign:
             "findings": [_finding_data(f) for f in runner.report.findings],
             "stats": [_stats_data(s) for s in runner.report.tools.values()],
         }
+        self.log.flush()  # the log first: the state never counts a call the log does not have yet
         write_text_atomic(self.state_path, json.dumps(state, ensure_ascii=False, default=str) + "\n")
         self._saved_at = (time.monotonic(), self.calls)
 

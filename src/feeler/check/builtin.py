@@ -46,6 +46,24 @@ def _error_texts(ctx: CallContext) -> list[str]:
     return _texts(ex.result) if ex.is_error_result else []
 
 
+# -- preconditions (register(..., when=...)): each is the guard its check starts with -------------------
+
+
+def _refused(ctx: CallContext) -> bool:
+    """The answer is an error or an ``isError`` result (what _error_texts reads)."""
+    ex = ctx.exchange
+    return ex is not None and (ex.error is not None or ex.is_error_result)
+
+
+def _failed_or_refused(ctx: CallContext) -> bool:
+    return ctx.failure is not None or _refused(ctx)
+
+
+def _has_result(ctx: CallContext) -> bool:
+    ex = ctx.exchange
+    return ex is not None and isinstance(ex.result, dict)
+
+
 def _pointer(path: str | None) -> str:
     from feeler._json import to_pointer
 
@@ -133,6 +151,11 @@ def _shape_validator(method: str, revision: str) -> Any:
 
 
 def _shape_errors(method: str, revision: str, result: Any) -> list[str]:
+    form = _text_form(result)
+    if form is not None:  # the common answer: its form's verdict, when mcp-types gave it already
+        known = _TEXT_FORM_VERDICTS.get((method, revision, form))
+        if known is not None:
+            return list(known)
     from pydantic import ValidationError
 
     if isinstance(result, dict) and result.get("resultType") == "input_required":
@@ -154,11 +177,41 @@ def _shape_errors(method: str, revision: str, result: Any) -> list[str]:
     try:
         validator.validate_python(result, by_name=False)
     except ValidationError as exc:
-        return [f"{'.'.join(str(p) for p in e['loc'])}: {e['msg']}" for e in exc.errors()[:3]]
-    return []
+        errors = [f"{'.'.join(str(p) for p in e['loc'])}: {e['msg']}" for e in exc.errors()[:3]]
+    else:
+        errors = []
+    if form is not None and len(_TEXT_FORM_VERDICTS) < 256:
+        _TEXT_FORM_VERDICTS[(method, revision, form)] = tuple(errors)
+    return errors
 
 
-@register("result_shape", applies_to=("go", "no-go"), reference="MCP <revision> server/tools (CallToolResult); mcp-types")
+#: mcp-types' verdict per (method, revision, text form): see _text_form
+_TEXT_FORM_VERDICTS: dict[tuple[str, str, tuple[int, Any]], tuple[str, ...]] = {}
+
+
+def _text_form(result: Any) -> tuple[int, Any] | None:
+    """The form of the most common tool result, text blocks only: ``{"content": [{"type": "text", "text":
+    "..."}, ...]}`` with or without a boolean ``isError``, nothing else. mcp-types constrains ``text`` to
+    be a string and nothing more (TextContent), so every result of one form gets the same verdict, and
+    the runner asks pydantic once per form and revision. The form is the number of blocks and the
+    ``isError`` value (None when absent); None for any other result (validated as it is)."""
+    if type(result) is not dict:
+        return None
+    size = len(result)
+    is_error = result.get("isError")
+    if not (size == 1 or (size == 2 and type(is_error) is bool)):
+        return None
+    content = result.get("content")
+    if type(content) is not list:
+        return None
+    for block in content:
+        if type(block) is not dict or len(block) != 2 or block.get("type") != "text" or type(block.get("text")) is not str:
+            return None
+    return len(content), is_error
+
+
+@register("result_shape", applies_to=("go", "no-go"), reference="MCP <revision> server/tools (CallToolResult); mcp-types",
+          when=_has_result)
 def result_shape(ctx: CallContext) -> Iterator[Problem]:
     """A tools/call result has the shape the negotiated protocol version defines (content blocks, isError, resultType)."""
     ex = ctx.exchange
@@ -171,7 +224,7 @@ def result_shape(ctx: CallContext) -> Iterator[Problem]:
 # -- go and no-go verdicts --------------------------------------------------------------------------
 
 
-@register("go_enters", applies_to=("go",), reference="MCP 2025-11-25 server/tools (error handling)")
+@register("go_enters", applies_to=("go",), reference="MCP 2025-11-25 server/tools (error handling)", when=_refused)
 def go_enters(ctx: CallContext) -> Iterator[Problem]:
     """A go case enters: arguments the input schema accepts are accepted: -32602 on a go case means schema and code disagree."""
     ex = ctx.exchange
@@ -189,7 +242,8 @@ def go_enters(ctx: CallContext) -> Iterator[Problem]:
         yield Problem(f"valid arguments{_where(ctx)} got isError: {text}", error_class="is-error")
 
 
-@register("bounds_honoured", applies_to=("go",), reference="JSON Schema 2020-12 validation sections 6.2-6.4")
+@register("bounds_honoured", applies_to=("go",), reference="JSON Schema 2020-12 validation sections 6.2-6.4",
+          when=lambda ctx: ctx.base == "entered")
 def bounds_honoured(ctx: CallContext) -> Iterator[Problem]:
     """A value exactly on a bound the schema allows (minimum, maxLength...) is not refused with ``isError``
     when the same arguments one step inside the bound (the base) are accepted."""
@@ -228,7 +282,8 @@ def nogo_stops(ctx: CallContext) -> Iterator[Problem]:
         )
 
 
-@register("no_crash", applies_to=("go", "no-go"), reference="common practice: a tool reports failures, it does not crash")
+@register("no_crash", applies_to=("go", "no-go"), reference="common practice: a tool reports failures, it does not crash",
+          when=_failed_or_refused)
 def no_crash(ctx: CallContext) -> Iterator[Problem]:
     """A call never ends in an unhandled exception: no exception class, traceback line, SDK crash text
     ("Error executing tool NAME" alone) or interpreter wording ("unterminated character set", "object has
@@ -260,7 +315,8 @@ _TRACES = {
     "java-stack": re.compile(r"\bat [\w$.]+\([\w$]+\.java:\d+\)|Exception in thread \""),
     "go-panic": re.compile(r"goroutine \d+ \[|\bpanic: "),
 }
-@register("no_leaks", applies_to=("go", "no-go", "probe"), reference="common practice (OWASP: error handling); MCP 2025-11-25 server/tools security")
+@register("no_leaks", applies_to=("go", "no-go", "probe"), reference="common practice (OWASP: error handling); MCP 2025-11-25 server/tools security",
+          when=_refused)
 def no_leaks(ctx: CallContext) -> Iterator[Problem]:
     """Errors leak no internals: stack traces (Python, JavaScript, Java, Go), absolute file paths (but for
     those the user gave: the target's command line and working folder, the arguments sent), secrets."""
@@ -283,7 +339,8 @@ def no_leaks(ctx: CallContext) -> Iterator[Problem]:
 # -- structured output --------------------------------------------------------------------------------
 
 
-@register("output_schema", applies_to=("go",), reference="MCP 2025-06-18 server/tools (output schema); JSON Schema 2020-12; jsonschema")
+@register("output_schema", applies_to=("go",), reference="MCP 2025-06-18 server/tools (output schema); JSON Schema 2020-12; jsonschema",
+          when=lambda ctx: ctx.tool is not None and ctx.tool.output_schema is not None)
 def output_schema(ctx: CallContext) -> Iterator[Problem]:
     """A tool with an outputSchema returns ``structuredContent`` that validates against it."""
     from feeler.check.schemas import SlowPattern, output_validator, validation_errors
@@ -324,7 +381,8 @@ def output_schema(ctx: CallContext) -> Iterator[Problem]:
         )
 
 
-@register("output_mirrored", applies_to=("go",), severity="warning", reference="MCP 2025-06-18 server/tools (structured content): SHOULD")
+@register("output_mirrored", applies_to=("go",), severity="warning", reference="MCP 2025-06-18 server/tools (structured content): SHOULD",
+          when=lambda ctx: _has_result(ctx) and "structuredContent" in ctx.exchange.result)  # type: ignore[union-attr]
 def output_mirrored(ctx: CallContext) -> Iterator[Problem]:
     """``structuredContent`` is also given as serialized JSON in a text block (a SHOULD)."""
     ex = ctx.exchange
@@ -352,7 +410,8 @@ def server_alive(ctx: CallContext) -> Iterator[Problem]:
         yield Problem(f"the liveness request failed: {ctx.exchange.error.get('message')!r}", error_class="ping-error")
 
 
-@register("latency", applies_to=("go", "no-go"), reference="common practice: a per-tool latency budget")
+@register("latency", applies_to=("go", "no-go"), reference="common practice: a per-tool latency budget",
+          when=lambda ctx: bool(ctx.settings.latency_budget))
 def latency(ctx: CallContext) -> Iterator[Problem]:
     """Every call answers within the tool's latency budget (when one is configured)."""
     ex, tool = ctx.exchange, ctx.tool

@@ -117,10 +117,17 @@ class Check:
     severity: str
     doc: str
     reference: str
+    #: a cheap necessary condition for the check to find anything (None: always run it); see register()
+    when: Callable[[CallContext], bool] | None = None
 
     def run(self, ctx: CallContext) -> list[Problem]:
-        if ctx.kind not in self.applies_to:
+        if ctx.kind not in self.applies_to or (self.when is not None and not self.when(ctx)):
             return []
+        return self.problems(ctx)
+
+    def problems(self, ctx: CallContext) -> list[Problem]:
+        """What the check finds in *ctx*, each with a severity (no test of the kind nor of ``when``: for a
+        caller that made them, as the runner does)."""
         return [p if p.severity else replace(p, severity=self.severity) for p in self.func(ctx)]
 
 
@@ -128,9 +135,16 @@ CHECKS: dict[str, Check] = {}
 
 
 def register(
-    name: str, *, applies_to: tuple[str, ...], severity: str = "error", reference: str = ""
+    name: str, *, applies_to: tuple[str, ...], severity: str = "error", reference: str = "",
+    when: Callable[[CallContext], bool] | None = None,
 ) -> Callable[[CheckFunc], CheckFunc]:
-    """Register a check under *name*; checked when registered (kinds, severity, docstring)."""
+    """Register a check under *name*; checked when registered (kinds, severity, docstring).
+
+    :param when: optional, a cheap test that is true whenever the check could find something (its own
+        first guard, e.g. "the answer is an error"): the runner skips the check on calls where it is
+        false, which keeps the many checks of each call cheap on the common, clean answer. It must never
+        be false where the check would yield a problem.
+    """
 
     def decorate(func: CheckFunc) -> CheckFunc:
         unknown = set(applies_to) - set(CASE_KINDS)
@@ -142,7 +156,7 @@ def register(
             raise UsageError(f"check {name!r}: give it a docstring; `feeler check --list-checks` shows it")
         if name in CHECKS and CHECKS[name].func is not func:
             raise UsageError(f"check {name!r} is registered twice")
-        CHECKS[name] = Check(name, func, tuple(applies_to), severity, (func.__doc__ or "").strip().splitlines()[0], reference)
+        CHECKS[name] = Check(name, func, tuple(applies_to), severity, (func.__doc__ or "").strip().splitlines()[0], reference, when)
         return func
 
     return decorate

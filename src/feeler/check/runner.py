@@ -10,6 +10,7 @@ hide the rest; a tool that hangs twice is not called again in that run.
 from __future__ import annotations
 
 import bisect
+import functools
 import json
 import os
 import random
@@ -131,6 +132,8 @@ class ToolStats:
     bases: list[Any] = field(default_factory=list, repr=False)
     #: entered go cases per provenance of a learned value ("list_roots /structuredContent/roots/0": 2)
     learned_from: dict[str, int] = field(default_factory=dict)
+    #: go cases called whose arguments the oracle then refused (a bug in feeler; no finding from them)
+    refuted_go: int = 0
 
     def counters(self) -> dict[str, Any]:
         """The go and no-go counters, as every JSON output names them (``check --format json`` and the
@@ -831,14 +834,53 @@ class Runner:
         checks = self._by_kind.get(ctx.kind)
         if checks is None:  # the checks that apply to this kind of call, in registry order (once per kind)
             checks = self._by_kind[ctx.kind] = [c for c in self.checks if ctx.kind in c.applies_to]
+        found: list[tuple[str, list[Problem]]] = []
         for check in checks:
             if only is not None and check.name not in only:
                 continue
-            for problem in check.run(ctx):
-                self._record(ctx, check.name, problem)
+            when = check.when
+            if when is not None and not when(ctx):
+                continue  # the check's own first guard: nothing to find on this call
+            problems = check.problems(ctx)
+            if problems:
+                found.append((check.name, problems))
+        if found and ctx.kind == "go" and self._refuted(ctx):
+            return failed
+        for name, problems in found:
+            for problem in problems:
+                self._record(ctx, name, problem)
                 if problem.severity == "error":
-                    failed.append(check.name)
+                    failed.append(name)
         return failed
+
+    def _refuted(self, ctx: CallContext) -> bool:
+        """Whether the oracle refuses the arguments of *ctx*'s go case. Sampled go cases are valid by
+        construction (the oracle audits a share of them: :func:`feeler.generate.fast_go_cases`), so a
+        go case is proven here, before any finding from it is recorded: a refused one gives no finding
+        (the case is wrong, not the server: a bug in feeler), is counted (``ToolStats.refuted_go``) and
+        said once per tool (:class:`feeler.generate.GeneratorBugWarning`)."""
+        case, tool = ctx.case, ctx.tool
+        if tool is None or case is None or not hasattr(case, "arguments"):
+            return False
+        try:
+            ts = self.schema(tool)
+        except SchemaProblem:
+            return False
+        if ts.is_valid(case.arguments):
+            return False
+        stats = self.stats(tool)
+        stats.refuted_go += 1
+        if stats.refuted_go == 1:
+            import warnings
+
+            from feeler.generate import GeneratorBugWarning
+
+            what = getattr(case, "note", "") or getattr(case, "source", "") or "go case"
+            note = (f"{tool.name}: feeler made go arguments that its own oracle refuses ({what}): "
+                    "a bug in feeler, please report it with the schema; such a case gives no finding")  # fmt: skip
+            self.progress(note)
+            warnings.warn(note, GeneratorBugWarning, stacklevel=2)
+        return True
 
     def _record(self, ctx: CallContext, check: str, problem: Problem) -> None:
         case = ctx.case
@@ -908,17 +950,23 @@ LATENCY_SAMPLE = 4096
 _sampler = random.Random(0)
 
 
+@functools.cache
+def _latency_bounds() -> tuple[float, ...]:
+    from feeler.report.document import LATENCY_BOUNDS  # imported on first use (the report layer is heavier)
+
+    return LATENCY_BOUNDS
+
+
 def note_duration(stats: ToolStats, seconds: float, kind: str) -> None:
     """Count one call's duration: in the time per case kind, exactly in the fixed-bound histogram, and in
     the bounded uniform sample the percentiles come from (reservoir sampling, Vitter's algorithm R), so
     memory stays flat."""
-    from feeler.report.document import LATENCY_BOUNDS
-
+    bounds = _latency_bounds()
     stats.seconds[kind] = stats.seconds.get(kind, 0.0) + seconds
 
     if not stats.latency_buckets:
-        stats.latency_buckets = [0] * (len(LATENCY_BOUNDS) + 1)
-    stats.latency_buckets[bisect.bisect_left(LATENCY_BOUNDS, seconds)] += 1
+        stats.latency_buckets = [0] * (len(bounds) + 1)
+    stats.latency_buckets[bisect.bisect_left(bounds, seconds)] += 1
     stats.latency_count += 1
     if stats.latency_max is None or seconds > stats.latency_max:
         stats.latency_max = seconds

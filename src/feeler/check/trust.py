@@ -92,9 +92,12 @@ def failure_reason(text: str, arguments: Any = None) -> str | None:
     ``messageType: "error"`` that answers "Error: Operation failed" did what it was asked).
     """
     cleaned = _DENIALS.sub("", text)
-    sent = [v.lower() for v in _strings(arguments) if len(v.strip()) >= 3]
     starts = [m for m in [_FAILURE_START.search(cleaned)] if m]
-    for match in [*starts, *_FAILURE_ANY.finditer(cleaned[:400])]:
+    matches = [*starts, *_FAILURE_ANY.finditer(cleaned[:400])]
+    if not matches:
+        return None  # the common case: no failure wording, so the strings sent need not be read
+    sent = [v.lower() for v in _strings(arguments) if len(v.strip()) >= 3]
+    for match in matches:
         words = match.group(0).strip()
         if not any(re.search(rf"(?<!\w){re.escape(words.lower())}(?!\w)", value) for value in sent):
             return words

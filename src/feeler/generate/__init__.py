@@ -1,4 +1,5 @@
-"""Go and no-go arguments from a tool's input schema, each proven by the oracle (``jsonschema``).
+"""Go and no-go arguments from a tool's input schema, each proven by the oracle (``jsonschema``); sampled go
+arguments of an exact schema are valid by construction, the oracle auditing a share (``fast_go_cases``).
 
 Public API only; the code lives in the private modules and in the keyword tables
 (:data:`~feeler.generate.mutators.MUTATORS`, :data:`~feeler.generate.boundaries.BOUNDARIES`)::
@@ -8,6 +9,7 @@ Public API only; the code lives in the private modules and in the keyword tables
 
 from __future__ import annotations
 
+from feeler.generate._fast import GeneratorBugWarning
 from feeler.generate._model import compile_schema
 from feeler.generate._schema import DEFAULT_RECURSION_DEPTH, DIALECTS, ToolSchema
 from feeler.generate.boundaries import BOUNDARIES
@@ -22,6 +24,7 @@ __all__ = [
     "DIALECTS",
     "MUTATORS",
     "Case",
+    "GeneratorBugWarning",
     "KeywordCoverage",
     "Probe",
     "Tally",

@@ -3,12 +3,21 @@
 hypothesis spends most of a draw on its own bookkeeping (choice sequences, health checks, the
 ``@given`` loop), which caps drawn go cases at a few hundred per second. Here each shape of the
 compiled model (:mod:`._model`) becomes one small sampler (a closure ``rng -> value``), made once; a
-case is one call of the root sampler plus one oracle check (``ToolSchema.is_valid``). A shape that is
-not satisfied by construction (:attr:`~._model.Shape.exact` false: ``not``, ``if``, ``contains``...)
-is sampled from its merged keywords and filtered by its own oracle; a shape that still cannot be
-sampled draws from a small pool of hypothesis values made once per shape
-(:func:`~feeler.generate._strategies.searched_examples`).
-Every returned value passed the oracle; the same seed gives the same values.
+case is one call of the root sampler. A shape that is not satisfied by construction
+(:attr:`~._model.Shape.exact` false: ``not``, ``if``, ``contains``...) is sampled from its merged
+keywords and filtered by its own oracle; a shape that still cannot be sampled draws from a small pool
+of hypothesis values made once per shape (:func:`~feeler.generate._strategies.searched_examples`).
+
+The oracle (``ToolSchema.is_valid``, the whole schema) guards the values as follows. When the root
+shape is not exact, every value is checked. When it is exact, the values are valid by construction and
+the oracle audits every :data:`AUDIT_EVERY`-th one (the first included): whole-schema validation costs
+several times the draw itself, and sampled cases are the hot path of a campaign. A value the audit
+refuses is a bug in feeler's samplers: it is dropped, the values kept so far are checked one by one,
+every later value of that schema is checked too, and the disagreement is said once (a
+:class:`GeneratorBugWarning` warning; :func:`sampler_mismatch`). Whatever the audit saw, the runner
+proves a sampled go case with the oracle before any finding from it is recorded
+(``Runner._refuted``), and the property tests hold the samplers' values to an independent validator.
+The same seed gives the same values.
 """
 
 from __future__ import annotations
@@ -18,11 +27,12 @@ import math
 import random
 import re
 import string
+import warnings
 from collections.abc import Callable
 from decimal import Decimal
 from typing import Any
 
-from feeler._json import canonical_dumps
+from feeler._json import canonical_dumps, canonical_value, sorted_compact_dumps
 from feeler.generate import _ecma
 from feeler.generate._formats import FORMAT_SAMPLES
 from feeler.generate._model import Shape, model_of
@@ -30,7 +40,7 @@ from feeler.generate._regex import _c, _p, regex_example
 from feeler.generate._schema import ToolSchema
 from feeler.generate._strategies import Unbuildable, searched_examples
 
-__all__ = ["Miss", "ObjectPlan", "fast_values", "sampler_for", "typed_sampler"]
+__all__ = ["AUDIT_EVERY", "GeneratorBugWarning", "Miss", "ObjectPlan", "fast_values", "sampler_for", "sampler_mismatch", "typed_sampler"]
 
 Sampler = Callable[[random.Random], Any]
 
@@ -50,6 +60,14 @@ _PRINTABLE = "".join(chr(c) for c in range(32, 127))
 _WIDE = "éßøΩжあ中🙂"
 _KEY_CHARS = string.ascii_lowercase + "_"
 _LABEL = string.ascii_lowercase + string.digits
+#: With an exact root shape, the oracle checks every AUDIT_EVERY-th value (see the module docstring).
+AUDIT_EVERY = 16
+
+
+class GeneratorBugWarning(UserWarning):
+    """feeler's oracle refused a value feeler's own generator made as valid (a sampler's value built as
+    valid by construction, or a go case's arguments): a bug in feeler, please report it with the schema.
+    Such a value is dropped or gives no finding."""
 
 
 class _Miss(Exception):
@@ -78,15 +96,20 @@ def sampler_for(shape: Shape, pool: bool = True) -> Sampler:
 
 
 def fast_values(ts: ToolSchema, count: int, rng: random.Random) -> tuple[list[Any], int]:
-    """Up to *count* oracle-checked values for the whole schema, and how many candidates were refused.
+    """Up to *count* values for the whole schema, and how many candidates were refused.
 
-    Stops early (returning fewer) when the refusals outnumber the accepted values by far: the caller
-    then fills the rest from hypothesis.
+    Values of an exact root shape are valid by construction and audited by the oracle (every
+    :data:`AUDIT_EVERY`-th one); other values are each checked (see the module docstring). Stops early
+    (returning fewer) when the refusals outnumber the accepted values by far: the caller then fills the
+    rest from hypothesis.
     """
-    root = sampler_for(model_of(ts).root_shape)
+    shape = model_of(ts).root_shape
+    root = sampler_for(shape)
+    audit = AUDIT_EVERY if shape.exact and sampler_mismatch(ts) is None else 1
     out: list[Any] = []
     seen: set[str] = set()
     refused = 0
+    made = 0  # values built (and not refused) so far: the audit's clock
     budget = 20 * count + 50
     while len(out) < count and budget > 0:
         budget -= 1
@@ -95,16 +118,47 @@ def fast_values(ts: ToolSchema, count: int, rng: random.Random) -> tuple[list[An
         except (_Miss, Unbuildable):
             refused += 1
             continue
-        if not ts.is_valid(value):
+        if made % audit == 0 and not ts.is_valid(value):
             refused += 1
+            if audit > 1:  # valid by construction, yet refused: say so, and trust the construction no more
+                _mismatch(ts, shape, value)
+                audit = 1
+                kept = [v for v in out if ts.is_valid(v)]  # the values so far, checked one by one now
+                refused += len(out) - len(kept)
+                out[:] = kept
             continue
+        made += 1
         # Prefer a new value, but accept a repeat now and then: small enums have few values.
-        key = canonical_dumps(value)
+        key = _value_key(value)
         if key in seen and rng.random() < 0.9:
             continue
         seen.add(key)
         out.append(value)
     return out, refused
+
+
+def _value_key(value: Any) -> str:
+    """A canonical text of *value* (equal for the values :func:`~feeler._json.canonical_dumps` writes
+    alike), compact and written by the C encoder: only a float like ``2.0`` needs the canonical pass."""
+    text = sorted_compact_dumps(value)
+    if "." in text:  # a whole float (2.0) is written with a dot below 2**53; canonical_dumps writes it as 2
+        text = sorted_compact_dumps(canonical_value(value))
+    return text
+
+
+def sampler_mismatch(ts: ToolSchema) -> str | None:
+    """Why the oracle no longer trusts the root sampler of *ts* (a value built as valid was refused), or
+    None while every audit agreed."""
+    return model_of(ts).root_shape.__dict__.get("_mismatch")
+
+
+def _mismatch(ts: ToolSchema, shape: Shape, value: Any) -> None:
+    errors = ts.errors(value)
+    why = errors[0].message if errors else "refused"
+    note = (f"{ts.where}feeler's sampler built a value the schema refuses ({why[:200]}): a bug in feeler's "
+            f"generator, please report it with the schema; every value of this schema is now checked")
+    shape.__dict__["_mismatch"] = note
+    warnings.warn(note, GeneratorBugWarning, stacklevel=3)
 
 
 # -- compilation ---------------------------------------------------------------------------------------
@@ -307,22 +361,50 @@ _TRICKY = (
 )
 
 
-def _text(rng: random.Random, low: int, high: int) -> str:
+_ODD_MIX = _ODD + _ASCII + _WIDE
+_WIDE_MIX = _ASCII + _WIDE + " "
+
+
+def _text(rng: random.Random, low: int, high: int, tricky: list[str] | None = None) -> str:
     """A string of *low* to *high* code points: mostly letters and digits (what a schema's examples look
-    like), often printable ASCII with its punctuation, sometimes odd characters or a known tricky string."""
+    like), often printable ASCII with its punctuation, sometimes odd characters or a known tricky string
+    (*tricky*: those of :data:`_TRICKY` whose length fits, when the caller worked them out already)."""
     roll = rng.random()
     if roll < 0.1:
-        tricky = [t for t in _TRICKY if low <= len(t) <= high]
+        if tricky is None:
+            tricky = [t for t in _TRICKY if low <= len(t) <= high]
         if tricky:
             return rng.choice(tricky)
     size = rng.randint(low, high)
     if roll < 0.25:
-        return "".join(rng.choice(_ODD + _ASCII + _WIDE) for _ in range(size))
+        return _chars(rng, _ODD_MIX, size)
     if roll < 0.5:
-        return "".join(rng.choice(_PRINTABLE) for _ in range(size))
+        return _chars(rng, _PRINTABLE, size)
     if roll < 0.6:
-        return "".join(rng.choice(_ASCII + _WIDE + " ") for _ in range(size))
-    return "".join(rng.choice(_ASCII) for _ in range(size))
+        return _chars(rng, _WIDE_MIX, size)
+    return _chars(rng, _ASCII, size)
+
+
+def _chars(rng: random.Random, alphabet: str, size: int) -> str:
+    """*size* characters of *alphabet*, each ``rng.choice(alphabet)``: for CPython's Random the choice is
+    inlined (``getrandbits`` until below the alphabet's size, as ``Random._randbelow`` does), the same
+    characters at a third of the cost; strings are most of a sampled value."""
+    if type(rng)._randbelow is not _RANDBELOW:
+        choice = rng.choice
+        return "".join([choice(alphabet) for _ in range(size)])
+    bits = rng.getrandbits
+    count = len(alphabet)
+    width = count.bit_length()
+    out = []
+    for _ in range(size):
+        pick = bits(width)
+        while pick >= count:
+            pick = bits(width)
+        out.append(alphabet[pick])
+    return "".join(out)
+
+
+_RANDBELOW = getattr(random.Random, "_randbelow_with_getrandbits", None)
 
 
 def _string(shape: Shape) -> Sampler:
@@ -364,7 +446,8 @@ def _text_sampler(low: int, high: int | None, formats: list[str], patterns: list
 
         return matching
     top = high if high is not None else low + 2 * _SPAN
-    return lambda rng: _text(rng, low, top)
+    tricky = [t for t in _TRICKY if low <= len(t) <= top]
+    return lambda rng: _text(rng, low, top, tricky)
 
 
 def _tried(maker: Sampler, ok: Callable[[Any], bool]) -> Sampler:
@@ -580,6 +663,9 @@ class ObjectPlan:
             self.free = sampler_for(shape.names) if shape.names is not None else _key
             if shape.extra.parts or shape.names is not None:
                 self.extras.append(self.free)
+        #: no extra keys, nothing depends, no upper count and the required properties reach the lower one:
+        #: finish() has nothing to do
+        self.plain = not self.extras and not self.depends and self.high is None and self.low <= len(self.required)
 
     def _add(self, out: dict, keys: Sampler, rng: random.Random) -> None:
         key = keys(rng)
@@ -589,6 +675,8 @@ class ObjectPlan:
     def finish(self, out: dict, rng: random.Random, extras: bool = True) -> dict:
         """*out* (the required and some optional properties) with extra keys (when *extras*), the
         properties ``dependentRequired`` asks for, and within ``minProperties``/``maxProperties``."""
+        if self.plain:
+            return out  # nothing below would change it or draw from rng
         for keys in self.extras if extras else ():
             if rng.random() < 0.3:
                 for _ in range(rng.randint(1, 2)):

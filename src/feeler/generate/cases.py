@@ -1,4 +1,5 @@
-"""Go and no-go cases for one input schema, each proven by the oracle before it is returned.
+"""Go and no-go cases for one input schema, each proven by the oracle before it is returned (sampled go
+cases of a schema whose shape is exact are valid by construction and audited: :func:`fast_go_cases`).
 
 The runner here is the only place cases are made: it builds valid base instances (the fullest, the
 smallest, and one through each ``if`` outcome and each ``anyOf``/``oneOf`` branch), walks them with the
@@ -367,10 +368,16 @@ def drawn_cases(schema: Any, count: int, *, seed: int = 0, recursion_depth: int 
 
 @_placed
 def fast_go_cases(schema: Any, count: int, *, seed: int = 0, recursion_depth: int | None = None) -> list[Case]:
-    """*count* go cases built by a seeded sampler outside hypothesis' engine, each checked by the oracle.
+    """*count* go cases built by a seeded sampler outside hypothesis' engine, valid by construction or
+    checked by the oracle.
 
     The compiled model gives one sampler per shape (:mod:`._fast`); values come from
-    ``random.Random(seed)``, so the same seed gives the same cases. If the sampler cannot fill
+    ``random.Random(seed)``, so the same seed gives the same cases. Where the whole schema's shape is
+    exact (:attr:`~._model.Shape.exact`) the values are valid by construction and the oracle audits a
+    fixed share of them (every :data:`~._fast.AUDIT_EVERY`-th); a refused one is dropped, said once
+    (:class:`~._fast.GeneratorBugWarning`) and from then on every value of the schema is checked. Elsewhere
+    every value is checked. The runner proves a case with the oracle before any finding from it is
+    recorded, so a sampler bug costs cases, never a wrong finding. If the sampler cannot fill
     *count* (a shape it cannot build and a pool hypothesis could not fill), the rest is drawn from
     :func:`arguments` under the same seed. For shrinking and the example database use
     :func:`arguments` in a ``@given`` test instead.

@@ -167,6 +167,7 @@ class StdioTransport(Transport):
         _LIVE.add(self)
         assert self.proc.stdin is not None and self.proc.stdout is not None and self.proc.stderr is not None
         os.set_blocking(self.proc.stdin.fileno(), False)  # send() waits with select, bounded by its timeout
+        os.set_blocking(self.proc.stdout.fileno(), False)  # receive() reads first and waits only when it must
         self._stderr = _StderrTail(self.proc.stderr)
         self._selector = selectors.DefaultSelector()
         self._selector.register(self.proc.stdout.fileno(), selectors.EVENT_READ)
@@ -208,7 +209,10 @@ class StdioTransport(Transport):
                 drain = not self._eof and len(self._buf) <= 2 * self.max_message_bytes
                 readable, _, _ = select.select([fd_out] if drain else [], [fd_in], [], remaining)
                 if readable:
-                    chunk = os.read(fd_out, _READ_CHUNK)
+                    try:
+                        chunk = os.read(fd_out, _READ_CHUNK)
+                    except BlockingIOError:
+                        continue  # nothing after all (the read end is non-blocking)
                     if chunk:
                         self._buf += chunk
                     else:
@@ -227,12 +231,14 @@ class StdioTransport(Transport):
                 return Inbound(taken[0], not_utf8=taken[1])
             if self._eof:
                 raise self._exited("the server closed its stdout")
-            remaining = deadline - time.monotonic()
-            if remaining <= 0:
-                raise RequestTimeout(f"no answer within {timeout:g}s", target=self.target)
-            if not self._selector.select(remaining):
+            try:  # a fast server has often answered while the request was written: no wait needed then
+                chunk = os.read(fd, _READ_CHUNK)
+            except BlockingIOError:
+                remaining = deadline - time.monotonic()
+                if remaining <= 0:
+                    raise RequestTimeout(f"no answer within {timeout:g}s", target=self.target) from None
+                self._selector.select(remaining)
                 continue
-            chunk = os.read(fd, _READ_CHUNK)
             if not chunk:
                 self._eof = True
                 continue

@@ -298,6 +298,10 @@ def _machine(plan: _Plan, failures: dict[str, ChainFailure]) -> type:
         token_strategy = learned.filter(lambda t, _wanted=wanted: _wanted in t.fits)
         decorated = rule(target=learned, token=token_strategy, base=st.integers(0, count - 1))(chained)
         namespace[f"chain_{slot.tool}" + _NON_WORD.sub("_", slot.pointer)] = precondition(has)(decorated)
+    # hypothesis keys a state machine by a digest of its source (inspect.getsource), which for a class made
+    # here means parsing this whole module on every chain phase only to find no class statement: a module
+    # name with no file makes it fall back to the class name at once, the digest it reached before.
+    namespace["__module__"] = "feeler.world.chains.<machine>"
     return type("FeelerChains", (RuleBasedStateMachine,), namespace)
 
 

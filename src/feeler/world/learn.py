@@ -30,7 +30,7 @@ from feeler.catalog import Tool
 from feeler.world.names import ID_WORDS, PATH_WORDS, identifier_like, nouns, related, words
 from feeler.world.values import ValuePool
 
-__all__ = ["Found", "Learner", "answer_values", "listings", "value_at"]
+__all__ = ["Found", "Learner", "answer_values", "listings", "same_json", "value_at"]
 
 _ID_TOKEN = re.compile(r"(?<![\w/.-])(?=[\w-]*\d)(?=[\w-]*[A-Za-z])[A-Za-z0-9]+(?:[-_][A-Za-z0-9]+)+(?![\w/-])")
 _UUID = re.compile(r"\b[0-9a-fA-F]{8}-[0-9a-fA-F]{4}-[0-9a-fA-F]{4}-[0-9a-fA-F]{4}-[0-9a-fA-F]{12}\b")
@@ -101,6 +101,8 @@ class Learner:
         }
         self._targets: dict[tuple[str, frozenset[str]], list[tuple[str, str]]] = {}
         self.learned = 0
+        #: the last answer read: (tool, result, the pool's add count after it, whether it evicted a value)
+        self._last: tuple[str, Any, int, bool] | None = None
 
     def takes(self, tool: str) -> bool:
         """Whether *tool* has an input learned values may go into."""
@@ -122,14 +124,51 @@ class Learner:
         return added
 
     def learn(self, tool: str, result: Any) -> int:
-        """Read a successful ``tools/call`` *result* of *tool*; returns how many new values were filed."""
+        """Read a successful ``tools/call`` *result* of *tool*; returns how many new values were filed.
+
+        An answer identical to the last one read (the same tool, the same JSON: types and key order
+        included), with the pool untouched since and nothing evicted then, is not read again: reading it
+        would file the same values in the same order, leaving the pool as it is (a fast server often
+        gives one answer to every call)."""
+        last = self._last
+        if last is not None and last[0] == tool and last[2] == self.pool.adds and not last[3] and same_json(last[1], result):
+            return 0
         added = 0
+        evictions = self.pool.evictions
         for found in answer_values(tool, result, max_values=self.max_values, max_text=self.max_text):
             targets = self._by_kind[found.kind] if found.kind else self._targets_for(found.name or "", found.context)
             if targets:
                 added += self._file(targets, found.value, found.provenance(tool))
         self.learned += added
+        self._last = (tool, result, self.pool.adds, self.pool.evictions != evictions)
         return added
+
+
+def same_json(a: Any, b: Any) -> bool:
+    """Whether two parsed JSON values are the same, types and key order included (``1`` is neither ``1.0``
+    nor ``true`` here, unlike ``==``). Iterative, so any depth is fine; it stops at the first difference."""
+    stack = [(a, b)]
+    while stack:
+        x, y = stack.pop()
+        if x is y:
+            continue
+        kind = type(x)
+        if kind is not type(y):
+            return False
+        if kind is dict:
+            if len(x) != len(y):
+                return False
+            for (kx, vx), (ky, vy) in zip(x.items(), y.items()):
+                if kx != ky:
+                    return False
+                stack.append((vx, vy))
+        elif kind is list:
+            if len(x) != len(y):
+                return False
+            stack.extend(zip(x, y))
+        elif x != y:
+            return False
+    return True
 
 
 @dataclass(frozen=True)

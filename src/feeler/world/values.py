@@ -69,6 +69,10 @@ class ValuePool:
         self.per_key = per_key
         #: (tool or None, key) -> canonical JSON -> Value, oldest first
         self._values: dict[tuple[str | None, str], OrderedDict[str, Value]] = {}
+        #: how many times :meth:`add` ran, and how many values it evicted (a learner skips an answer
+        #: identical to the last one it read only while nothing else touched the pool: feeler.world.learn)
+        self.adds = 0
+        self.evictions = 0
 
     def add(self, key: str, value: Any, *, source: str, provenance: str, tool: str | None = None) -> bool:
         """File *value* under *key* (a property name, or a JSON Pointer / ``$.`` path); True when new.
@@ -80,6 +84,7 @@ class ValuePool:
         place = pointer_of(key)
         slot = self._values.setdefault((tool, place if place is not None else key), OrderedDict())
         text = canonical_dumps(value)
+        self.adds += 1
         if text in slot:
             slot.move_to_end(text)
             return False
@@ -89,6 +94,7 @@ class ValuePool:
             if victim is None:
                 break
             del slot[victim]
+            self.evictions += 1
         return True
 
     def values_for(self, tool: str, pointer: str, name: str | None = None) -> list[Value]:
