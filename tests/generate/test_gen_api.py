@@ -10,7 +10,7 @@ from feeler.generate import BOUNDARIES, MUTATORS, Case, coverage, go_cases, nogo
 
 def test_all_is_pinned() -> None:
     assert sorted(generate.__all__) == sorted([
-        "BOUNDARIES", "DEFAULT_RECURSION_DEPTH", "DIALECTS", "MUTATORS", "Case", "KeywordCoverage", "Probe", "Tally", "ToolSchema",
+        "BOUNDARIES", "DEFAULT_RECURSION_DEPTH", "DIALECTS", "MUTATORS", "Case", "GeneratorBugWarning", "KeywordCoverage", "Probe", "Tally", "ToolSchema",
         "arguments", "compile_schema", "coverage", "drawn_cases", "fast_go_cases", "go_cases", "nogo_cases", "protocol_probes",
     ])  # fmt: skip
     for name in generate.__all__:
