@@ -200,6 +200,20 @@ def leftovers(*, only_descendants: bool = False, grace: float = LEFTOVER_GRACE) 
         time.sleep(0.1)
 
 
+def pytest_report_header(config: pytest.Config) -> str:
+    """The versions of the outside references this run judged against, on the first lines of the log
+    (feeler supports the newest hypothesis: the CI log shows which one it ran on)."""
+    from importlib.metadata import PackageNotFoundError, version
+
+    def ver(name: str) -> str:
+        try:
+            return version(name)
+        except PackageNotFoundError:
+            return "absent"
+
+    return "feeler's references: " + ", ".join(f"{n} {ver(n)}" for n in ("hypothesis", "jsonschema", "mcp", "mcp-types", "referencing"))
+
+
 def pytest_collection_modifyitems(session: pytest.Session, config: pytest.Config, items: list[pytest.Item]) -> None:
     """Run the leftover-process test last."""
     last = [item for item in items if item.path.name == LEFTOVER_TEST_FILE]
