@@ -43,12 +43,21 @@ def audit_settings(config: Any) -> dict[str, Any]:
 def _list_checks(ctx: click.Context, _param: click.Parameter, value: bool) -> None:
     if not value or ctx.resilient_parsing:
         return
+    import shutil
+    import textwrap
+
     from feeler.check.registry import CHECKS
 
-    for check in sorted(CHECKS.values(), key=lambda c: c.name):
-        click.echo(f"{check.name:<18} {check.severity:<8} {', '.join(check.applies_to):<24} {check.doc}")
-        if check.reference:
-            click.echo(f"{'':<18} {'':<8} {'':<24} ({check.reference})")
+    checks = sorted(CHECKS.values(), key=lambda c: c.name)
+    name_w = max(len(c.name) for c in checks)
+    kinds_w = max(len(", ".join(c.applies_to)) for c in checks)
+    indent = " " * (name_w + 1 + 8 + 1 + kinds_w + 1)
+    width = max(shutil.get_terminal_size((120, 24)).columns, len(indent) + 40)
+    for check in checks:
+        head = f"{check.name:<{name_w}} {check.severity:<8} {', '.join(check.applies_to):<{kinds_w}} "
+        click.echo(textwrap.fill(check.doc, width=width, initial_indent=head, subsequent_indent=indent))
+        if check.reference:  # on a line of its own, whole, so that it can be searched for
+            click.echo(f"{indent}({check.reference})")
     ctx.exit(0)
 
 

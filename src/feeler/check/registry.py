@@ -17,6 +17,8 @@ Users add checks with :func:`register`::
 
 from __future__ import annotations
 
+import inspect
+
 from collections.abc import Callable, Iterator
 from dataclasses import dataclass, field, replace
 from typing import Any
@@ -134,6 +136,11 @@ class Check:
 CHECKS: dict[str, Check] = {}
 
 
+def _summary(doc: str) -> str:
+    """The first paragraph of a docstring on one line (what ``--list-checks`` and reports show)."""
+    return " ".join(inspect.cleandoc(doc).split("\n\n", 1)[0].split())
+
+
 def register(
     name: str, *, applies_to: tuple[str, ...], severity: str = "error", reference: str = "",
     when: Callable[[CallContext], bool] | None = None,
@@ -156,7 +163,7 @@ def register(
             raise UsageError(f"check {name!r}: give it a docstring; `feeler check --list-checks` shows it")
         if name in CHECKS and CHECKS[name].func is not func:
             raise UsageError(f"check {name!r} is registered twice")
-        CHECKS[name] = Check(name, func, tuple(applies_to), severity, (func.__doc__ or "").strip().splitlines()[0], reference, when)
+        CHECKS[name] = Check(name, func, tuple(applies_to), severity, _summary(func.__doc__ or ""), reference, when)
         return func
 
     return decorate
