@@ -361,6 +361,18 @@ def test_refuses_other_roots(tmp_path: Path) -> None:
         assert call({"root": "/srv/orchard", "depth": True})["isError"] is True
 
 
+def test_echoes_refused_urls(tmp_path: Path) -> None:
+    with started(tmp_path, script("echoes_refused_urls")) as wire:
+        wire.handshake()
+        call = _tool_caller(wire)
+        # MCP 2025-11-25 server/tools "Error Handling": refusals are isError results; each repeats the URL and host.
+        refused = call("compress_page", {"source": "https://pages.example/a"})
+        assert refused["isError"] is True and "https://pages.example/a" in refused["content"][0]["text"]
+        assert call("compress_page", {})["isError"] is True  # the default names a host that is not allowed
+        assert call("compress_page", {"source": "http://127.0.0.1/a", "label": "a.gz"}).get("isError") is not True
+        assert call("compress_page", {"label": "x" * 41})["isError"] is True  # maxLength 40 (validation 6.3.1)
+
+
 def test_reads_under_listed_roots(tmp_path: Path) -> None:
     with started(tmp_path, script("reads_under_listed_roots")) as wire:
         wire.handshake()

@@ -249,6 +249,14 @@ class WireServer:
         return {"content": [{"type": "text", "text": text}]}
 
 
+def text_result(text: str, *, error: bool = False) -> dict[str, Any]:
+    """A tools/call result with one text block, ``isError: true`` when *error* (MCP 2025-11-25 server/tools)."""
+    result: dict[str, Any] = {"content": [{"type": "text", "text": text}]}
+    if error:
+        result["isError"] = True
+    return result
+
+
 def main(server_class: type[WireServer]) -> None:
     """Run a server class until stdin ends; exit quietly on a closed stdout."""
     try:

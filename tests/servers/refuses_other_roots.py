@@ -19,7 +19,7 @@ from typing import Any
 
 sys.path.insert(0, os.path.dirname(os.path.abspath(__file__)))
 
-from _wire import INVALID_PARAMS, RpcError, WireServer, main  # noqa: E402
+from _wire import INVALID_PARAMS, RpcError, WireServer, main, text_result as _text  # noqa: E402
 from jsonschema import Draft202012Validator  # noqa: E402
 
 ROOT = os.environ.get("FEELER_TEST_ROOT", "/srv/orchard")
@@ -61,13 +61,6 @@ TOOLS = [
     },
 ]
 _CHECKERS = {tool["name"]: Draft202012Validator(tool["inputSchema"]) for tool in TOOLS}
-
-
-def _text(text: str, *, error: bool = False) -> dict[str, Any]:
-    result: dict[str, Any] = {"content": [{"type": "text", "text": text}]}
-    if error:
-        result["isError"] = True
-    return result
 
 
 class RefusesOtherRoots(WireServer):

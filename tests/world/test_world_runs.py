@@ -85,3 +85,24 @@ def test_text_report_names_the_sources_and_the_hint(tmp_path: Path) -> None:
     code, out, _ = run_cli(["check", *FEW, "--include", "list_entries", "--value", "list_entries:root=/srv/orchard",
                             "--replay-dir", str(tmp_path), *SERVER])  # fmt: skip
     assert "entered by source: known" in out and "attributable" in out
+
+
+URLS = ["--", PY, str(SERVERS / "echoes_refused_urls.py")]
+
+
+def test_refusals_that_repeat_the_url_sent_are_one_message_and_name_the_property(tmp_path: Path) -> None:
+    """A tool refuses every host but its own and repeats the URL and host unquoted, so no two refusals read
+    alike word for word: feeler still sees one message (the echoed URL and host blanked), names the property
+    whose value the message repeats (`source`, also when only its `default` was in force), and reports no
+    broken gate (tests/servers/echoes_refused_urls.py; MCP 2025-11-25 server/tools "Error Handling")."""
+    code, report = cli_json([*FEW, "--replay-dir", str(tmp_path), *URLS])
+    [hint] = _by(report, "values_needed")
+    assert "host HOST" not in hint["message"] and "is not in the allowed hosts list" in hint["message"]
+    assert "--value source=" in hint["message"]
+    assert not _by(report, *GATE) and code == 1  # the hint is an error-grade finding: the run is not clean
+    assert report["tools"]["compress_page"]["go"]["entered"] == 0
+
+    code, report = cli_json([*FEW, "--value", 'source=["http://127.0.0.1/guide.md", "http://127.0.0.1/notes.md"]',
+                             "--replay-dir", str(tmp_path), *URLS])
+    assert not _by(report, "values_needed") and not _by(report, *GATE)
+    assert report["tools"]["compress_page"]["go"]["entered"] > 0

@@ -293,7 +293,11 @@ def no_crash(ctx: CallContext) -> Iterator[Problem]:
     if ctx.failure is not None:
         kind = type(ctx.failure).__name__
         what = {"RequestTimeout": "hung (no answer in time)", "ServerExited": "made the server exit"}.get(kind, f"failed ({kind})")
-        yield Problem(f"the call {what}{_where(ctx)}: {ctx.failure}", error_class=kind)
+        hint = ""
+        if kind == "RequestTimeout" and ctx.kind == "go":  # a tool may be slow by design for what the schema allows
+            hint = ("; if the tool is slow by design for these arguments, bound them in the schema (maximum, maxLength...), "
+                    "give a value (--value TOOL:PROPERTY=JSON) or a longer --timeout")  # fmt: skip
+        yield Problem(f"the call {what}{_where(ctx)}: {ctx.failure}{hint}", error_class=kind)
         return
     for text in _error_texts(ctx):
         reason = crash_reason(text)

@@ -41,6 +41,12 @@ MAX_ANCHORS = 2
 _MAX_REFUSALS = 32
 _QUOTED = re.compile(r"'[^']*'|\"[^\"]*\"|`[^`]*`")
 _NUMBER = re.compile(r"-?\d+(?:\.\d+)?")
+#: unquoted values a refusal often echoes: URLs, then host names, then absolute paths (common practice)
+_ECHOED = (
+    (re.compile(r"\b[A-Za-z][A-Za-z0-9+.-]*://[^\s'\"<>]*"), "URL"),
+    (re.compile(r"\b(?:[A-Za-z0-9-]+\.)+[A-Za-z]{2,}\b"), "HOST"),
+    (re.compile(r"(?<![\w.:/])/[^\s'\"<>:,;]+"), "PATH"),
+)
 
 
 def outcome(exchange: Any, failure: Any = None) -> str | None:
@@ -67,8 +73,12 @@ def refusal_text(exchange: Any) -> str:
 
 
 def _shape(text: str) -> str:
-    """A refusal message with quoted parts and numbers blanked, so refusals naming the value match."""
-    return _NUMBER.sub("N", _QUOTED.sub("'...'", text))[:300]
+    """A refusal message with quoted parts, URLs, host names, absolute paths and numbers blanked, so
+    refusals naming the value sent ("Domain a.example is not allowed", "/x/y: outside the root") match."""
+    text = _QUOTED.sub("'...'", text[:2000])
+    for pattern, blank in _ECHOED:
+        text = pattern.sub(blank, text)
+    return _NUMBER.sub("N", text)[:300]
 
 
 def inside_arguments(schema: Any, case: Any) -> Any | None:
@@ -116,6 +126,8 @@ class ToolWorld:
     entered_by_source: Counter[str] = field(default_factory=Counter)
     refusals: Counter[str] = field(default_factory=Counter)
     first_refusal: dict[str, str] = field(default_factory=dict)
+    #: the arguments of the first go case refused with each message shape
+    first_refused: dict[str, Any] = field(default_factory=dict)
     #: go cases the tool refused with an ``isError`` result
     go_refused: int = 0
     nogo: Counter[str] = field(default_factory=Counter)
@@ -138,7 +150,8 @@ class ToolWorld:
             shape = _shape(message)
             if shape in self.refusals or len(self.refusals) < _MAX_REFUSALS:
                 self.refusals[shape] += 1
-                self.first_refusal.setdefault(shape, message)
+                if shape not in self.first_refusal:
+                    self.first_refusal[shape], self.first_refused[shape] = message, case.arguments
         return result
 
     def anchors(self) -> list[Any]:

@@ -19,14 +19,22 @@ __all__ = ["PATH_LIKE", "gate_hint", "property_to_give"]
 PATH_LIKE = re.compile(r"(^|_)(path|root|dir|directory|folder|file|repo|repository|workspace|id|ref|key|name|uri|url)s?$", re.I)
 
 
-def property_to_give(schema: Any, message: str) -> str | None:
-    """The property a value should be given for: a required one the message names, else a required
-    path- or id-like one, else the first required string property, else the first property."""
+def property_to_give(schema: Any, message: str, arguments: Any = None) -> str | None:
+    """The property a value should be given for: one whose value the message echoes (from *arguments*,
+    the refused call's, or the property's ``default`` when the call left it out), else a required one the
+    message names, else a path- or id-like one, else the first required string property, else the first
+    property."""
     if not isinstance(schema, dict):
         return None
     properties = schema.get("properties") if isinstance(schema.get("properties"), dict) else {}
     required = [r for r in schema.get("required") or [] if isinstance(r, str)]
     names = required + [n for n in properties if n not in required]
+    sent = arguments if isinstance(arguments, dict) else {}
+    for name in names:
+        sub = properties.get(name)
+        value = sent.get(name, sub.get("default") if isinstance(sub, dict) else None)
+        if isinstance(value, str) and len(value) >= 4 and value in message:
+            return name
     words = set(re.findall(r"[A-Za-z_][A-Za-z0-9_]*", message.lower()))
     for pool in (required, names):
         for name in pool:
@@ -48,7 +56,7 @@ def gate_hint(tool: Any, world: ToolWorld, go_calls: int) -> str | None:
         return None
     shape = next(iter(world.refusals))
     message = world.first_refusal[shape]
-    name = property_to_give(tool.input_schema, message)
+    name = property_to_give(tool.input_schema, message, world.first_refused.get(shape))
     quoted = message if len(message) <= 160 else message[:157] + "..."
     what = (
         f"give a value for {name!r} from the server's world: --value {name}=... "
