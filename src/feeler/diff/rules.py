@@ -18,7 +18,7 @@ from collections.abc import Callable, Iterator, Mapping
 from typing import Any
 
 from feeler.diff.model import Effect, SchemaEdit
-from feeler.diff.witness import ANNOTATION_KEYWORDS, Kit, NoInstance
+from feeler.diff.witness import ANNOTATION_KEYWORDS, Kit, NoInstance, pattern_draws
 
 __all__ = ["SCHEMA_RULES", "RULE_KEYWORDS", "Rule", "schema_rule", "HANDLED_KEYWORDS"]
 
@@ -342,6 +342,8 @@ def pattern(old: Schema, new: Schema) -> Iterator[SchemaEdit]:
     def cands(kit: Kit, a: Schema, b: Schema) -> Iterator[Any]:
         yield from _with(kit, a)
         yield from ("", "a", "A", "0", "a b", "-", "x" * 40)
+        if isinstance(a.get("pattern"), str):  # strings of the accepting side's pattern, read as ECMA-262
+            yield from pattern_draws(a["pattern"], 20)
         yield from kit.draws(a, 15)
 
     effect = Effect.NARROWS if po is None else Effect.WIDENS if pn is None else Effect.CHANGES

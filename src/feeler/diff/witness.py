@@ -26,7 +26,9 @@ import referencing
 import referencing.exceptions
 from jsonschema.validators import validator_for
 
-__all__ = ["NoInstance", "Kit", "draws", "resolve_pointer", "validator", "is_valid"]
+from feeler.errors import SchemaProblem
+
+__all__ = ["NoInstance", "Kit", "draws", "is_valid", "pattern_draws", "resolve_pointer", "validator"]
 
 #: JSON Schema keywords that validate nothing (JSON Schema 2020-12 meta-data vocabulary, section 9).
 ANNOTATION_KEYWORDS = frozenset(
@@ -78,13 +80,17 @@ def _key(schema: Any) -> str:
 
 @functools.lru_cache(maxsize=4096)
 def _validator_cached(key: str) -> Any:
+    from feeler.generate._schema import ORACLES, ecma_validator
+
     schema = json.loads(key)
     cls = validator_for(schema, default=jsonschema.Draft202012Validator)
-    return cls(schema, registry=_REGISTRY, format_checker=cls.FORMAT_CHECKER)
+    oracle = ORACLES.get(cls) or ecma_validator(cls)
+    return oracle(schema, registry=_REGISTRY, format_checker=cls.FORMAT_CHECKER)
 
 
 def validator(schema: Any) -> Any:
-    """The reference validator for *schema* (cached): format checker on, no remote ``$ref``."""
+    """The reference validator for *schema* (cached): format checker on, no remote ``$ref``, patterns read
+    the ECMA-262 way under a time budget (the oracle of ``feeler check``: :mod:`feeler.generate._ecma`)."""
     return _validator_cached(_key(schema))
 
 
@@ -98,8 +104,8 @@ def is_valid(root: Any, instance: Any, sub: Any = None) -> bool:
         if sub is None:
             return bool(base.is_valid(instance))
         return bool(base.evolve(schema=sub).is_valid(instance))
-    except (referencing.exceptions.Unresolvable, jsonschema.exceptions.SchemaError, RecursionError):
-        return False
+    except (referencing.exceptions.Unresolvable, jsonschema.exceptions.SchemaError, RecursionError, SchemaProblem, ValueError):
+        return False  # also a pattern that is not ECMA-262 (ValueError) or runs past its budget (SlowPattern)
 
 
 def resolve_pointer(root: Any, ref: str) -> Any:
@@ -211,26 +217,30 @@ def _class_member(items: Any) -> str:
 
 @functools.lru_cache(maxsize=1024)
 def _regex_example(pattern: str, min_len: int, max_len: int | None) -> str:
-    """A short string matching *pattern* (searched, as JSON Schema 2020-12 Validation 6.3.3 says) within
-    the length bounds: built from the parsed regex, else drawn by hypothesis ``from_regex``."""
+    """A short string matching ECMA-262 *pattern* (searched, as JSON Schema 2020-12 Validation 6.3.3 says)
+    within the length bounds: built from the parse tree of the pattern's translation, else drawn from
+    the pattern's strings (:func:`feeler.generate._strategies.pattern_strings`); every candidate confirmed
+    by the budgeted ECMA-262 matcher (:func:`feeler.generate._ecma.search`), never by Python's ``re``."""
     import re
 
+    from feeler.generate import _ecma
+
     def ok(s: str) -> bool:
-        return re.search(pattern, s) is not None and len(s) >= min_len and (max_len is None or len(s) <= max_len)
+        return len(s) >= min_len and (max_len is None or len(s) <= max_len) and _ecma.search(pattern, s)
 
     try:
-        parsed = _sre.parse(pattern)
+        parsed = _sre.parse(_ecma.translate(pattern))
         for stretch in (0, 1, 2, 4, 8, 16):
             candidate = _regex_walk(list(parsed), stretch)
             if ok(candidate):
                 return candidate
-    except (NoInstance, re.error, TypeError, ValueError, OverflowError):
-        pass
-    from hypothesis import strategies as st
+        from feeler.generate._strategies import pattern_strings
 
-    for value in _draw_strategy(st.from_regex(pattern, fullmatch=False), 30):
-        if isinstance(value, str) and ok(value):
-            return value
+        for value in _draw_strategy(pattern_strings(pattern), 30):
+            if isinstance(value, str) and ok(value):
+                return value
+    except (NoInstance, re.error, TypeError, ValueError, OverflowError, SchemaProblem):
+        pass  # not ECMA-262 (PatternError is a ValueError), or too slow to match (SlowPattern)
     raise NoInstance(f"no string matches pattern {pattern!r} within the length bounds")
 
 
@@ -488,6 +498,19 @@ _BUILDERS = {
     "null": lambda kit, s, d, f: None,
 }
 assert set(_BUILDERS) == {"object", "array", "string", "number", "integer", "boolean", "null"}
+
+
+@functools.lru_cache(maxsize=256)
+def pattern_draws(pattern: str, n: int) -> tuple[str, ...]:
+    """Up to *n* strings ECMA-262 *pattern* matches, derandomized (the same on every run); none for a
+    pattern that is not ECMA-262 or too slow to match."""
+    from feeler.generate._strategies import pattern_strings
+
+    try:
+        strategy = pattern_strings(pattern)
+    except (ValueError, SchemaProblem):
+        return ()
+    return tuple(dict.fromkeys(v for v in _draw_strategy(strategy, n) if isinstance(v, str)))
 
 
 @functools.lru_cache(maxsize=256)
