@@ -118,6 +118,17 @@ def _steps(keyword: str, value: Any) -> list[Any]:
     return []
 
 
+def _places(value: Any, depth: int = 0) -> int:
+    """The number of places (object members and array items, nested ones included) in *value*."""
+    if depth > 64:
+        return 0
+    if isinstance(value, dict):
+        return sum(1 + _places(v, depth + 1) for v in value.values())
+    if isinstance(value, list):
+        return sum(1 + _places(v, depth + 1) for v in value)
+    return 0
+
+
 @dataclass
 class ToolWorld:
     """What one tool's calls showed about its world: entered arguments, refusals, verdicts by source."""
@@ -155,8 +166,9 @@ class ToolWorld:
         return result
 
     def anchors(self) -> list[Any]:
-        """Up to :data:`MAX_ANCHORS` entered arguments, the fullest first (they reach the most places)."""
-        ranked = sorted(self.entered, key=lambda a: -len(canonical_dumps(a)))
+        """Up to :data:`MAX_ANCHORS` entered arguments, those with the most places first (they reach the most
+        keywords), the shortest of those first (a no-go case built on it reads the most easily)."""
+        ranked = sorted(self.entered, key=lambda a: (-_places(a), len(canonical_dumps(a))))
         return ranked[:MAX_ANCHORS]
 
     def base_of(self, case: Any) -> Any | None:
