@@ -436,7 +436,8 @@ def gate_opens(ctx: CallContext) -> Iterator[Problem]:
     if stats is None or stats.go_calls == 0 or getattr(getattr(stats, "world", None), "hint", None):
         return  # no go case, or one hint (values_needed) says what to give instead
     if stats.go_entered == 0:
-        yield Problem(f"stopped all {stats.go_calls} go cases (the schema promises more than the tool accepts)", error_class="rejects-all")
+        # no count in the message: chains may call the tool again after this check (the tool's line has the counts)
+        yield Problem("stopped every go case (the schema promises more than the tool accepts)", error_class="rejects-all")
 
 
 @register("values_needed", applies_to=("tool",), reference="common practice: a tool that refuses every call with one message needs a value from its world")

@@ -63,4 +63,4 @@ def gate_hint(tool: Any, world: ToolWorld, go_calls: int) -> str | None:
         f"(--value {tool.name}:{name}=... for this tool only; or [tool.feeler.values] in pyproject.toml)"
         if name else "give values from the server's world with --value PROPERTY=... or [tool.feeler.values]"
     )
-    return f"all {go_calls} go cases were refused with the same message {quoted!r}; {what}"
+    return f"every go case was refused with the same message {quoted!r}; {what}"
