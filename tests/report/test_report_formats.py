@@ -126,6 +126,9 @@ def test_markdown_summary(checked: dict[str, Any]) -> None:
         if f.get("replayCommand"):
             assert f"`{f['replayCommand']}`" in text
     assert len(text) < 60_000
+    listed = [line.split("**")[1] for line in lines if line.startswith("- **")]
+    assert listed == sorted(listed, key=lambda severity: severity != "error")  # errors first: a cut list keeps them
+    assert "error" in listed and "warning" in listed  # the demo has both, so the order was really tested
 
 
 def test_merge_joins_parts(checked: dict[str, Any], tmp_path: Path) -> None:

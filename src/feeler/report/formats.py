@@ -82,7 +82,8 @@ def render_markdown(doc: dict[str, Any]) -> str:
     findings = doc["findings"]
     if findings:
         lines += ["", "### Findings", ""]
-        for f in findings[:MARKDOWN_FINDINGS]:
+        # errors first (a stable sort keeps the report's order within each severity): a cut list keeps them
+        for f in sorted(findings, key=lambda f: f["severity"] != "error")[:MARKDOWN_FINDINGS]:
             where = f" `{f['tool']}`" if f.get("tool") else " the server"
             lines.append(f"- **{f['severity']}** `{f['check']}` on{where} ({f['kind']}): {_cell(f['message'])}")
             if f.get("replayCommand"):
