@@ -85,6 +85,9 @@ def test_html_report_in_chromium(checked: dict[str, Any], tmp_path: Path) -> Non
     for f in doc["findings"]:
         if f.get("replayCommand"):
             assert f["replayCommand"] in dom
+    shown = re.findall(r'<li class="finding"><span class="(\w+)">', dom)
+    assert len(shown) == len(doc["findings"]) and {"error", "warning"} <= set(shown)
+    assert shown == sorted(shown, key=lambda severity: severity != "error")  # errors first, as in Markdown
     shot = Path(os.environ.get("FEELER_SCREENSHOT_DIR", str(tmp_path))) / "feeler-report.png"
     shot.parent.mkdir(parents=True, exist_ok=True)
     _out, err = _chromium(page, tmp_path / "profile-shot", f"--screenshot={shot}")

@@ -125,7 +125,7 @@ def _latency(doc: dict[str, Any]) -> str:
 
 def _findings(doc: dict[str, Any]) -> str:
     items = []
-    for f in doc["findings"]:
+    for f in sorted(doc["findings"], key=lambda f: f["severity"] != "error"):  # errors first, as in Markdown
         where = f"<code>{_e(f['tool'])}</code>" if f.get("tool") else "the server"
         extra = ""
         if f.get("arguments") is not None:
