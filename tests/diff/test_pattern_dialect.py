@@ -50,3 +50,14 @@ def test_unicode_property_classes_get_witnesses() -> None:
     old, new = _code("^\\p{Lu}$"), _code("^[A-Z]$")
     [change] = [c for c in diff_schemas(old, new, Direction.INPUT) if c.verdict is Verdict.BREAKING]
     assert reference_validator(old).is_valid(change.witness) and not reference_validator(new).is_valid(change.witness)
+
+
+def test_a_pattern_beyond_the_builder_still_gets_a_drawn_example() -> None:
+    """A back-reference (ECMA-262 22.2.2.9, AtomEscape DecimalEscape) is beyond the witness builder: the
+    example is then drawn from the pattern's strings, and regress agrees it matches."""
+    from gen_reference import ecma_search
+
+    from feeler.diff.witness import _regex_example
+
+    example = _regex_example("^(ab)\\1$", 0, None)
+    assert example == "abab" and ecma_search("^(ab)\\1$", example)

@@ -220,10 +220,6 @@ def test_a_file_given_on_the_command_line_runs_no_feeler_items(pytester: pytest.
 
 def test_a_missing_baseline_is_a_skip_with_the_command_that_creates_it(pytester: pytest.Pytester,
                                                                          monkeypatch: pytest.MonkeyPatch) -> None:
-    import shlex
-    import subprocess
-    import sys
-
     monkeypatch.delenv("PYTEST_XDIST_WORKER", raising=False)
     _project(pytester, "feeler.demo.server:server")
     result = pytester.runpytest_subprocess("-p", "no:cacheprovider", "-q", "-rs", "-k", "catalog")

@@ -27,9 +27,8 @@ def redact_url(spec: str) -> str:
     if "@" not in parts.netloc:
         return spec
     userinfo, host = parts.netloc.rsplit("@", 1)
-    user = userinfo.split(":", 1)[0] if ":" in userinfo else userinfo
     # a lone userinfo without ":" is a password too for Redis (redis://secret@host), so it is hidden as well
-    shown = f"{user}:***" if ":" in userinfo else "***"
+    shown = userinfo.split(":", 1)[0] + ":***" if ":" in userinfo else "***"
     return urlunsplit(parts._replace(netloc=f"{shown}@{host}"))
 
 

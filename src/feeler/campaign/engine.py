@@ -94,29 +94,39 @@ def _outputs(tool: Any) -> list[tuple[str, frozenset[str]]]:
     return out
 
 
-def _consumes(taker: Any, giver: Any) -> bool:
-    """True when an identifier-like input of *taker* may be filled by what *giver* returns: a property of
-    the giver's output schema with a related name (:func:`feeler.world.names.related`, the rule the
-    learning uses), or, with no output schema, an identifier about the giver's nouns
-    (``create_record`` -> ``record_id``)."""
+def _wanted(tool: Any) -> list[str]:
+    """The identifier-like input names of *tool* (those a returned value may fill)."""
     from feeler.world.learn import _property_names
-    from feeler.world.names import ID_WORDS, identifier_like, nouns, related
+    from feeler.world.names import identifier_like
 
-    wanted = [name for name in dict.fromkeys(_property_names(taker.input_schema)) if identifier_like(name)]
-    if not wanted:
-        return False
-    taker_nouns = nouns(taker.name)
-    if isinstance(giver.output_schema, dict):
-        found = _outputs(giver)
-    else:
-        giver_nouns = nouns(giver.name)
-        found = [(word, giver_nouns) for word in (*sorted(ID_WORDS), *sorted(giver_nouns))]
-    return any(related(name, o, ctx, taker_nouns) for name in wanted for o, ctx in found)
+    return [name for name in dict.fromkeys(_property_names(tool.input_schema)) if identifier_like(name)]
+
+
+def _given(tool: Any) -> list[tuple[str, frozenset[str]]]:
+    """What *tool* returns: the properties of its output schema, or, with no output schema, an identifier
+    about its nouns (``create_record`` -> ``record_id``)."""
+    from feeler.world.names import ID_WORDS, nouns
+
+    if isinstance(tool.output_schema, dict):
+        return _outputs(tool)
+    giver_nouns = nouns(tool.name)
+    return [(word, giver_nouns) for word in (*sorted(ID_WORDS), *sorted(giver_nouns))]
+
+
+def _consumes(wanted: list[str], taker_nouns: frozenset[str], given: list[tuple[str, frozenset[str]]]) -> bool:
+    """True when an identifier-like input of a taker (*wanted*, :func:`_wanted`) may be filled by what a
+    giver returns (*given*, :func:`_given`): a related name (:func:`feeler.world.names.related`, the
+    rule the learning uses)."""
+    from feeler.world.names import related
+
+    return any(related(name, o, ctx, taker_nouns) for name in wanted for o, ctx in given)
 
 
 def tool_groups(tools: list[Any]) -> list[list[str]]:
     """*tools* in groups of tools that depend on each other (directly or through others), each group
     sorted by name, the groups by their first name."""
+    from feeler.world.names import nouns
+
     names = sorted(t.name for t in tools)
     parent = {name: name for name in names}
 
@@ -126,9 +136,14 @@ def tool_groups(tools: list[Any]) -> list[list[str]]:
             name = parent[name]
         return name
 
-    for taker in tools:
-        for giver in tools:
-            if taker.name != giver.name and root(taker.name) != root(giver.name) and _consumes(taker, giver):
+    wanted = [_wanted(t) for t in tools]  # each tool's inputs and outputs read once, not once per pair
+    given = [_given(t) for t in tools]
+    for taker, want in zip(tools, wanted):
+        if not want:
+            continue
+        taker_nouns = nouns(taker.name)
+        for giver, gives in zip(tools, given):
+            if taker.name != giver.name and root(taker.name) != root(giver.name) and _consumes(want, taker_nouns, gives):
                 parent[root(taker.name)] = root(giver.name)
     groups: dict[str, list[str]] = {}
     for name in names:

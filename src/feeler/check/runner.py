@@ -387,13 +387,11 @@ class Runner:
         return out
 
     def schema(self, tool: Tool) -> Any:
-        """*tool*'s input schema compiled once per run (:func:`feeler.generate.compile_schema`; a
+        """*tool*'s input schema compiled once per run (:meth:`_compile`, with this run's settings; a
         ``SchemaProblem`` is raised each time, nothing is kept for it)."""
-        from feeler.generate import compile_schema
-
         ts = self._schemas.get(tool.name)
         if ts is None:
-            ts = self._schemas[tool.name] = compile_schema(tool.input_schema, name=tool.name)
+            ts = self._schemas[tool.name] = self._compile(tool)
         return ts
 
     def stats(self, tool: Tool) -> ToolStats:

@@ -86,9 +86,12 @@ def output_validator(schema: Any) -> Any:
     :func:`validation_errors`, which bounds the time pattern matching may take."""
     if not isinstance(schema, (dict, bool)):
         return None
-    if isinstance(schema, dict) and schema_limit_problem(schema) is not None:
-        return None  # before json.dumps, which would recurse into a deep schema
-    return _compiled(json.dumps(schema, sort_keys=True))
+    # Called on every go call: the limits are checked once per schema text, in _compiled. A schema nested
+    # past what json can follow breaks MAX_DEPTH anyway (json raises RecursionError, it does not overflow).
+    try:
+        return _compiled(json.dumps(schema, sort_keys=True))
+    except RecursionError:
+        return None
 
 
 def validation_errors(validator: Any, instance: Any, *, budget: float = MATCH_BUDGET) -> list[Any]:

@@ -230,10 +230,13 @@ def _regex_example(pattern: str, min_len: int, max_len: int | None) -> str:
 
     try:
         parsed = _sre.parse(_ecma.translate(pattern))
-        for stretch in (0, 1, 2, 4, 8, 16):
-            candidate = _regex_walk(list(parsed), stretch)
-            if ok(candidate):
-                return candidate
+        try:
+            for stretch in (0, 1, 2, 4, 8, 16):
+                candidate = _regex_walk(list(parsed), stretch)
+                if ok(candidate):
+                    return candidate
+        except NoInstance:
+            pass  # a construct beyond the builder (a back-reference, ...): drawn below instead
         from feeler.generate._strategies import pattern_strings
 
         for value in _draw_strategy(pattern_strings(pattern), 30):

@@ -36,10 +36,8 @@ from collections.abc import Iterator
 from typing import Any
 
 try:  # Python 3.11+
-    import re._constants as _c
     import re._parser as _p
 except ImportError:  # pragma: no cover - Python 3.10
-    import sre_constants as _c  # type: ignore[no-redef]
     import sre_parse as _p  # type: ignore[no-redef]
 
 from feeler.errors import SchemaProblem

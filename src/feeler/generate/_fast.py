@@ -32,7 +32,7 @@ from collections.abc import Callable
 from decimal import Decimal
 from typing import Any
 
-from feeler._json import canonical_dumps, canonical_value, sorted_compact_dumps
+from feeler._json import canonical_value, sorted_compact_dumps
 from feeler.generate import _ecma
 from feeler.generate._formats import FORMAT_SAMPLES
 from feeler.generate._model import Shape, model_of
@@ -610,7 +610,7 @@ def _array(shape: Shape) -> Sampler:
     def sample(rng: random.Random) -> list:
         size = rng.randint(low, high)
         out = [make(rng) for make in prefix[:size]]
-        keys = {canonical_dumps(v) for v in out} if unique else set()
+        keys = {_value_key(v) for v in out} if unique else set()
         misses = 0
         wanted = contained[1] if contained is not None else 0
         while len(out) < size:
@@ -622,7 +622,7 @@ def _array(shape: Shape) -> Sampler:
                     break  # a shorter array is still valid (an item schema nothing satisfies allows only [])
                 raise
             if unique:
-                key = canonical_dumps(value)
+                key = _value_key(value)
                 if key in keys:
                     misses += 1
                     if misses > 4 * size + 8:
@@ -669,8 +669,10 @@ class ObjectPlan:
 
     def _add(self, out: dict, keys: Sampler, rng: random.Random) -> None:
         key = keys(rng)
-        if isinstance(key, str) and key not in out and not self.shape.for_key(key).never:
-            out[key] = sampler_for(self.shape.for_key(key))(rng)
+        if isinstance(key, str) and key not in out:
+            target = self.shape.for_key(key)
+            if not target.never:
+                out[key] = sampler_for(target)(rng)
 
     def finish(self, out: dict, rng: random.Random, extras: bool = True) -> dict:
         """*out* (the required and some optional properties) with extra keys (when *extras*), the

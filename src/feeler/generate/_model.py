@@ -31,7 +31,7 @@ from collections.abc import Iterable
 from typing import Any
 
 from feeler._json import canonical_dumps
-from feeler._limits import check_schema_limits, over_count
+from feeler._limits import LOWER_COUNTS, UPPER_COUNTS, check_schema_limits, over_count
 from feeler.errors import SchemaProblem
 from feeler.generate import _ecma
 from feeler.generate._schema import DEFAULT_RECURSION_DEPTH, REF_KEYWORDS, ToolSchema, pointer
@@ -40,7 +40,7 @@ __all__ = ["COUNTS", "TYPES", "Model", "Node", "Shape", "compile_schema", "contr
 
 TYPES = ("null", "boolean", "integer", "number", "string", "array", "object")
 #: Keywords whose value is a count: an integer-valued number (2.0) means that integer.
-COUNTS = ("minLength", "maxLength", "minItems", "maxItems", "minProperties", "maxProperties", "minContains", "maxContains")
+COUNTS = LOWER_COUNTS + UPPER_COUNTS
 #: Keywords that constrain nothing (2020-12 core section 8, validation section 9) or only hold subschemas.
 ANNOTATIONS = frozenset({
     "title", "description", "default", "examples", "$comment", "deprecated", "readOnly", "writeOnly",
@@ -211,11 +211,9 @@ class Shape:
     @functools.cached_property
     def types(self) -> tuple[str, ...]:
         """The JSON types a value here may have (inferred from the keywords when no part declares ``type``)."""
-        declared = [t for p in self.parts if (t := _types_of(p.kw)) is not None]
-        if declared:
-            allowed = set.intersection(*declared)
-        else:
-            allowed = set(_inferred(self.keywords))
+        if any(_types_of(p.kw) is not None for p in self.parts):
+            return self.declared_types
+        allowed = set(_inferred(self.keywords))
         return tuple(t for t in TYPES if t in allowed)
 
     @functools.cached_property
@@ -344,7 +342,7 @@ class Shape:
         for part in self.parts:
             node = part.child("contains")
             if node is not None:
-                low = part.kw.get("minContains", 1) if "minContains" in part.kw else 1
+                low = part.kw.get("minContains", 1)
                 high = part.kw.get("maxContains")
                 out.append((self.model.shape([node]), low, None if over_count(high) else high))
         return out

@@ -316,10 +316,6 @@ class ToolSchema:
         self._sub_validators: dict[int, tuple[Any, Validator]] = {}
 
     # -- references ---------------------------------------------------------------------------------
-    def location(self, node: Any) -> str | None:
-        """The JSON Pointer of *node* (an object of this document), or None."""
-        return self._at.get(id(node))
-
     def resolver_for(self, node: Any) -> Any:
         """The ``referencing`` resolver in force at *node* (its base URI follows every ``$id`` above it)."""
         return self._resolvers.get(id(node), self.root_resolver)

@@ -27,6 +27,7 @@ from _wire import (  # noqa: E402  (the shared loop lives in tests/servers)
     RpcError,
     WireServer,
     main,
+    text_result as _text,
 )
 
 INTERNAL_ERROR = -32603
@@ -40,13 +41,6 @@ def _valid_echo(params: dict[str, Any]) -> bool:
         and isinstance(arguments["text"], str)
         and len(arguments["text"]) <= 1000
     )
-
-
-def _text(text: str, *, is_error: bool = False) -> dict[str, Any]:
-    result: dict[str, Any] = {"content": [{"type": "text", "text": text}]}
-    if is_error:
-        result["isError"] = True
-    return result
 
 
 class Clean(WireServer):
@@ -164,7 +158,7 @@ class AlwaysIsError(Clean):
     """Every call gets isError: true (the tool accepts nothing its schema promises)."""
 
     def on_tools_call(self, params: dict[str, Any], request_id: Any) -> dict[str, Any]:
-        return _text("echo is switched off", is_error=True)
+        return _text("echo is switched off", error=True)
 
 
 class ExceptionName(Clean):
@@ -172,7 +166,7 @@ class ExceptionName(Clean):
 
     def on_tools_call(self, params: dict[str, Any], request_id: Any) -> dict[str, Any]:
         if _valid_echo(params):
-            return _text("Error executing tool echo: KeyError: 'upstream'", is_error=True)
+            return _text("Error executing tool echo: KeyError: 'upstream'", error=True)
         return self.call_echo(params)
 
 
@@ -207,7 +201,7 @@ class Bounded(Clean):
             or isinstance(count, bool)
             or not 1 <= count <= 10
         ):
-            return _text("count must be an integer from 1 to 10", is_error=True)
+            return _text("count must be an integer from 1 to 10", error=True)
         return _text(str(count))
 
 
@@ -217,7 +211,7 @@ class OffByOne(Bounded):
     def on_tools_call(self, params: dict[str, Any], request_id: Any) -> dict[str, Any]:
         arguments = params.get("arguments")
         if isinstance(arguments, dict) and arguments.get("count") == 10:
-            return _text("count must be below 10", is_error=True)
+            return _text("count must be below 10", error=True)
         return Bounded.on_tools_call(self, params, request_id)
 
 
@@ -241,7 +235,7 @@ class Leaky(Clean):
             return self.call_echo(params)
         kind = sys.argv[2] if len(sys.argv) > 2 else "python"
         text = LEAKS[kind].format(secret=os.environ.get("FEELER_TEST_API_KEY", ""))
-        return _text(text, is_error=True)
+        return _text(text, error=True)
 
 
 # -- structured output ------------------------------------------------------------------------
@@ -278,7 +272,7 @@ class Structured(Clean):
         arguments = params.get("arguments")
         word = arguments.get("word") if isinstance(arguments, dict) else None
         if params.get("name") != "shout" or not isinstance(word, str) or len(word) > 20 or set(arguments) != {"word"}:
-            return _text("shout takes one argument, word (a string of at most 20 characters)", is_error=True)
+            return _text("shout takes one argument, word (a string of at most 20 characters)", error=True)
         structured: dict[str, Any] = {"upper": word.upper(), "length": len(word)}
         if self.mode == "missing":
             return _text(json.dumps(structured))
